@@ -1,0 +1,548 @@
+"""Generalised two-parameter cubic equation of state and its departure functions.
+
+The model (Michelsen & Mollerup, *Thermodynamic Models: Fundamentals and
+Computational Aspects*, 2nd ed., 2007, ch. 3, Eq. 3.1 in their notation)
+
+    P = R T / (v - b) - a(T) / ((v + δ1 b)(v + δ2 b))                  (C1)
+
+with three named instances, never switched silently:
+
+========  ==========  ==========  =========================================
+name      δ1          δ2          source
+========  ==========  ==========  =========================================
+``PR``    1 + √2      1 - √2      Peng & Robinson, Ind. Eng. Chem. Fundam.
+                                  15 (1976) 59-64, Eqs. 4, 9-12, 17-18
+``PR78``  1 + √2      1 - √2      Robinson & Peng, GPA Research Report
+                                  RR-28 (1978): κ cubic in ω for ω > 0.491
+``SRK``   1           0           Soave, Chem. Eng. Sci. 27 (1972)
+                                  1197-1203, Eqs. 10-15
+========  ==========  ==========  =========================================
+
+Pure-component parameters (critical conditions of (C1))
+
+    a_c,i = Ωa R² Tc,i² / Pc,i ,   b_i = Ωb R Tc,i / Pc,i               (C2)
+    α_i(T) = [1 + κ_i (1 - √(T/Tc,i))]²       (Soave 1972, Eq. 13)      (C3)
+    a_i(T) = a_c,i α_i(T)
+
+Ωa, Ωb are the exact roots of the critical conditions (PR: Ωb is the real
+root of 64 Ωb³ + 6 Ωb² + 12 Ωb - 1 = 0, Ωa = 3 Zc² + 3 Ωb² + 2 Ωb with
+Zc = (1 - Ωb)/3, printed as 0.45724 / 0.07780 in Peng & Robinson 1976
+Eqs. 9-10; SRK: Ωa = 1/(9(2^(1/3) - 1)), Ωb = (2^(1/3) - 1)/3).
+
+van der Waals one-fluid mixing with binary interaction parameters k_ij
+
+    a = Σ_i Σ_j x_i x_j (1 - k_ij) √(a_i a_j) ,   b = Σ_i x_i b_i      (C4)
+
+In dimensionless form A = a P/(R T)², B = b P/(R T), (C1) is the cubic
+
+    Z³ + c2 Z² + c1 Z + c0 = 0                                         (C5)
+    c2 = (δ1 + δ2 - 1) B - 1
+    c1 = A + δ1 δ2 B² - (δ1 + δ2) B (B + 1)
+    c0 = -(A B + δ1 δ2 B² (B + 1))
+
+Departure functions at (T, P) follow from the residual Helmholtz energy
+(Michelsen & Mollerup 2007, ch. 3) with
+L = ln[(Z + δ1 B)/(Z + δ2 B)] / (δ1 - δ2):
+
+    G^R/(RT) = Z - 1 - ln(Z - B) - (A/B) L                              (C6)
+    H^R      = R T (Z - 1) + (T a_T - a)/b · L                          (C7)
+    S^R      = R ln(Z - B) + a_T/b · L                                  (C8)
+    U^R      = (T a_T - a)/b · L                                        (C9)
+    ln φ_i   = (b_i/b)(Z - 1) - ln(Z - B)
+               - (A/B) (2 Σ_j x_j a_ij / a - b_i/b) L                   (C10)
+    Cv^R     = T a_TT / b · L                                           (C11)
+
+All departures are "at the same T and P" (the ideal-gas state at T, P),
+so H = H° + H^R and S = S°(T, P) + S^R.  a_T and a_TT are the first and
+second temperature derivatives of the mixture a.
+
+Every function broadcasts: state arrays of shape (...) and compositions of
+shape (..., nc) or (nc,).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+
+from .constants import R
+
+SQRT2 = np.sqrt(2.0)
+
+
+# --------------------------------------------------------------------------
+# κ(ω) correlations of the Soave-type alpha function (C3)
+# --------------------------------------------------------------------------
+def kappa_pr76(omega):
+    """κ of Peng & Robinson (1976), Eq. 18: 0.37464 + 1.54226 ω - 0.26992 ω²."""
+    omega = np.asarray(omega, dtype=float)
+    return 0.37464 + 1.54226 * omega - 0.26992 * omega**2
+
+
+def kappa_pr78(omega):
+    """κ of Robinson & Peng (1978), GPA RR-28.
+
+    κ = 0.37464 + 1.54226 ω - 0.26992 ω²                         for ω ≤ 0.491
+    κ = 0.379642 + 1.48503 ω - 0.164423 ω² + 0.016666 ω³         for ω > 0.491
+    """
+    omega = np.asarray(omega, dtype=float)
+    high = 0.379642 + omega * (1.48503 + omega * (-0.164423 + omega * 0.016666))
+    return np.where(omega > 0.491, high, kappa_pr76(omega))
+
+
+def kappa_srk(omega):
+    """κ of Soave (1972), Eq. 15: 0.480 + 1.574 ω - 0.176 ω²."""
+    omega = np.asarray(omega, dtype=float)
+    return 0.480 + 1.574 * omega - 0.176 * omega**2
+
+
+@dataclass(frozen=True)
+class CubicModel:
+    """One named instance of the generalised cubic (C1).
+
+    Attributes
+    ----------
+    name : str
+        ``"PR"``, ``"PR78"`` or ``"SRK"``.
+    delta1, delta2 : float
+        Constants of the attractive term of (C1) [-].
+    Omega_a, Omega_b : float
+        Critical-point constants of (C2) [-].
+    kappa : callable
+        κ(ω) of the Soave-type alpha function (C3).
+    Zc : float
+        Critical compressibility factor the model predicts for every pure fluid.
+    citation : str
+        Where the model is published.
+    """
+
+    name: str
+    delta1: float
+    delta2: float
+    Omega_a: float
+    Omega_b: float
+    kappa: Callable = field(repr=False)
+    Zc: float
+    citation: str
+
+
+# Exact Ωa, Ωb of PR: Ωb is the real root of 64 Ωb³ + 6 Ωb² + 12 Ωb - 1 = 0
+# (triple root of (C5) at the critical point; Peng & Robinson 1976 Eqs. 9-10
+# print 0.45724, 0.07780); full precision makes the critical point exact.
+_PR_OMEGA_A = 0.4572355289213821893834601962251837888504
+_PR_OMEGA_B = 0.0777960739038884559718447100373331839711
+_SRK_OMEGA_A = 0.4274802335403414043909906940611707345513  # 1/(9(2^(1/3)-1))
+_SRK_OMEGA_B = 0.08664034996495772158907020242607611685675  # (2^(1/3)-1)/3
+
+PR = CubicModel(
+    "PR", 1.0 + SQRT2, 1.0 - SQRT2, _PR_OMEGA_A, _PR_OMEGA_B, kappa_pr76,
+    0.3074013086987039,
+    "Peng, D.-Y.; Robinson, D. B. A New Two-Constant Equation of State. "
+    "Ind. Eng. Chem. Fundam. 15 (1976) 59-64. doi:10.1021/i160057a011",
+)
+PR78 = CubicModel(
+    "PR78", 1.0 + SQRT2, 1.0 - SQRT2, _PR_OMEGA_A, _PR_OMEGA_B, kappa_pr78,
+    0.3074013086987039,
+    "Robinson, D. B.; Peng, D.-Y. The Characterization of the Heptanes and "
+    "Heavier Fractions for the GPA Peng-Robinson Programs. GPA Research "
+    "Report RR-28 (1978)",
+)
+SRK = CubicModel(
+    "SRK", 1.0, 0.0, _SRK_OMEGA_A, _SRK_OMEGA_B, kappa_srk, 1.0 / 3.0,
+    "Soave, G. Equilibrium constants from a modified Redlich-Kwong equation "
+    "of state. Chem. Eng. Sci. 27 (1972) 1197-1203. "
+    "doi:10.1016/0009-2509(72)80096-4",
+)
+
+MODELS = {"PR": PR, "PR78": PR78, "SRK": SRK}
+
+
+@dataclass(frozen=True, eq=False)
+class MixtureParameters:
+    """Frozen per-component arrays a cubic mixture is computed with.
+
+    Attributes
+    ----------
+    model : CubicModel
+    Tc, Pc, omega : ndarray, shape (nc,)
+        Critical temperature [K], critical pressure [Pa], acentric factor [-].
+    kij : ndarray, shape (nc, nc)
+        Binary interaction parameters, symmetric, zero diagonal [-].
+    ac : ndarray, shape (nc,)
+        a_c,i of (C2) [Pa m⁶/mol²].
+    b : ndarray, shape (nc,)
+        b_i of (C2) [m³/mol].
+    kappa : ndarray, shape (nc,)
+        κ_i of (C3) [-].
+    """
+
+    model: CubicModel
+    Tc: np.ndarray
+    Pc: np.ndarray
+    omega: np.ndarray
+    kij: np.ndarray
+    ac: np.ndarray
+    b: np.ndarray
+    kappa: np.ndarray
+
+    @classmethod
+    def build(cls, model: CubicModel, Tc, Pc, omega, kij):
+        Tc = np.asarray(Tc, dtype=float)
+        Pc = np.asarray(Pc, dtype=float)
+        omega = np.asarray(omega, dtype=float)
+        kij = np.asarray(kij, dtype=float)
+        ac = model.Omega_a * R**2 * Tc**2 / Pc  # (C2)
+        b = model.Omega_b * R * Tc / Pc  # (C2)
+        kappa = np.asarray(model.kappa(omega), dtype=float)
+        for arr in (Tc, Pc, omega, kij, ac, b, kappa):
+            arr.setflags(write=False)
+        return cls(model, Tc, Pc, omega, kij, ac, b, kappa)
+
+
+# --------------------------------------------------------------------------
+# alpha function and mixing rule
+# --------------------------------------------------------------------------
+def soave_sqrt_alpha(T, Tc, kappa):
+    """√α of Soave's form (C3) and its first two temperature derivatives.
+
+    s = 1 + κ (1 - √(T/Tc)),  α = s²
+    ds/dT = -κ / (2 √(T Tc)),  d²s/dT² = κ / (4 T √(T Tc))
+
+    Returns s, ds/dT [1/K], d²s/dT² [1/K²], each of shape (..., nc).
+    """
+    T = np.asarray(T, dtype=float)[..., None]
+    sqrtTTc = np.sqrt(T * Tc)
+    s = 1.0 + kappa * (1.0 - np.sqrt(T / Tc))
+    ds = -kappa / (2.0 * sqrtTTc)
+    d2s = kappa / (4.0 * T * sqrtTTc)
+    return s, ds, d2s
+
+
+def component_a(T, p: MixtureParameters):
+    """a_i(T) = a_c,i α_i(T) per component [Pa m⁶/mol²], shape (..., nc)."""
+    s, _, _ = soave_sqrt_alpha(T, p.Tc, p.kappa)
+    return p.ac * s**2
+
+
+def mixture_a(T, x, p: MixtureParameters, derivatives=2):
+    """Mixture a of (C4) and its temperature derivatives.
+
+    With q_i = √a_i = √a_c,i · s_i (so a_ij = (1 - k_ij) q_i q_j):
+
+        a    = Σ_ij x_i x_j (1 - k_ij) q_i q_j
+        a_T  = 2 Σ_ij x_i x_j (1 - k_ij) q_i' q_j
+        a_TT = 2 Σ_ij x_i x_j (1 - k_ij) (q_i'' q_j + q_i' q_j')
+
+    Parameters
+    ----------
+    T : array_like, shape (...)
+        Temperature [K].
+    x : array_like, shape (..., nc) or (nc,)
+        Mole fractions [-].
+    p : MixtureParameters
+    derivatives : int
+        0, 1 or 2: how many temperature derivatives to return.
+
+    Returns
+    -------
+    a, a_T, a_TT : ndarray, shape (...)
+        [Pa m⁶/mol²], [Pa m⁶/(mol² K)], [Pa m⁶/(mol² K²)] (those asked for).
+    """
+    s, ds, d2s = soave_sqrt_alpha(T, p.Tc, p.kappa)
+    sac = np.sqrt(p.ac)
+    M = 1.0 - p.kij
+    xq = x * (sac * s)
+    Mxq = xq @ M  # M symmetric
+    a = np.einsum("...i,...i->...", xq, Mxq)
+    if derivatives == 0:
+        return (a,)
+    xq1 = x * (sac * ds)
+    a_T = 2.0 * np.einsum("...i,...i->...", xq1, Mxq)
+    if derivatives == 1:
+        return a, a_T
+    xq2 = x * (sac * d2s)
+    a_TT = 2.0 * (np.einsum("...i,...i->...", xq2, Mxq)
+                  + np.einsum("...i,...i->...", xq1, xq1 @ M))
+    return a, a_T, a_TT
+
+
+def mixture_a_partial(T, x, p: MixtureParameters):
+    """Σ_j x_j a_ij for each i [Pa m⁶/mol²], shape (..., nc); used in (C10)."""
+    s, _, _ = soave_sqrt_alpha(T, p.Tc, p.kappa)
+    q = np.sqrt(p.ac) * s
+    return q * ((x * q) @ (1.0 - p.kij))
+
+
+def mixture_b(x, p: MixtureParameters):
+    """b = Σ x_i b_i of (C4) [m³/mol]."""
+    return np.asarray(x, dtype=float) @ p.b
+
+
+# --------------------------------------------------------------------------
+# the cubic in Z and its roots
+# --------------------------------------------------------------------------
+def dimensionless_AB(a, b, T, P):
+    """A = a P/(R T)², B = b P/(R T)."""
+    RT = R * np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    return a * P / RT**2, b * P / RT
+
+
+def cubic_coefficients(A, B, delta1, delta2):
+    """Coefficients c2, c1, c0 of (C5) Z³ + c2 Z² + c1 Z + c0 = 0."""
+    s = delta1 + delta2
+    p = delta1 * delta2
+    c2 = (s - 1.0) * B - 1.0
+    c1 = A + p * B**2 - s * B * (B + 1.0)
+    c0 = -(A * B + p * B**2 * (B + 1.0))
+    return c2, c1, c0
+
+
+def cubic_roots(c2, c1, c0, polish=3):
+    """All real roots of Z³ + c2 Z² + c1 Z + c0 = 0, vectorised.
+
+    Closed form (trigonometric form when three real roots, Cardano's form
+    when one; e.g. Press et al., *Numerical Recipes*, 3rd ed., 2007, §5.6),
+    each root then polished by Newton steps on the cubic itself, which
+    restores full precision where the closed form loses it (nearly equal
+    roots, small B).
+
+    Returns
+    -------
+    ndarray, shape (..., 3)
+        Real roots in ascending order; NaN where a root is complex
+        (the one-real-root case fills slot 0 and leaves 1, 2 NaN).
+    """
+    c2, c1, c0 = np.broadcast_arrays(*(np.asarray(c, dtype=float) for c in (c2, c1, c0)))
+    Q = (c2**2 - 3.0 * c1) / 9.0
+    Rr = (2.0 * c2**3 - 9.0 * c2 * c1 + 27.0 * c0) / 54.0
+    Q3 = Q**3
+    three = Rr**2 < Q3
+    roots = np.full(c2.shape + (3,), np.nan)
+    # three real roots: Z_k = -2 √Q cos((θ + 2πk)/3) - c2/3
+    with np.errstate(invalid="ignore", divide="ignore"):
+        sqQ = np.sqrt(np.where(three, Q, 1.0))
+        cos_arg = np.clip(np.where(three, Rr / np.sqrt(np.where(three, Q3, 1.0)), 0.0), -1.0, 1.0)
+        theta = np.arccos(cos_arg)
+        k = np.array([0.0, 1.0, 2.0])
+        trig = -2.0 * sqQ[..., None] * np.cos((theta[..., None] + 2.0 * np.pi * k) / 3.0) - c2[..., None] / 3.0
+        # one real root: Cardano
+        Aq = -np.sign(Rr) * np.cbrt(np.abs(Rr) + np.sqrt(np.maximum(Rr**2 - Q3, 0.0)))
+        Bq = np.where(Aq != 0.0, Q / np.where(Aq != 0.0, Aq, 1.0), 0.0)
+        one = Aq + Bq - c2 / 3.0
+    roots[three] = trig[three]
+    roots[..., 0] = np.where(three, roots[..., 0], one)
+    # Newton polish on f(Z) = Z³ + c2 Z² + c1 Z + c0
+    for _ in range(polish):
+        Z = roots
+        f = ((Z + c2[..., None]) * Z + c1[..., None]) * Z + c0[..., None]
+        df = (3.0 * Z + 2.0 * c2[..., None]) * Z + c1[..., None]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            step = np.where(np.abs(df) > 1e-300, f / df, 0.0)
+        roots = np.where(np.isfinite(step), Z - step, Z)
+    return np.sort(roots, axis=-1)  # NaN sort last
+
+
+def log_term(Z, B, delta1, delta2):
+    """L = ln[(Z + δ1 B)/(Z + δ2 B)] / (δ1 - δ2), the integral in (C6)-(C11)."""
+    return np.log((Z + delta1 * B) / (Z + delta2 * B)) / (delta1 - delta2)
+
+
+def residual_g_RT(Z, A, B, delta1, delta2):
+    """G^R/(RT) of (C6) [-]; the mixture's ln φ."""
+    return Z - 1.0 - np.log(Z - B) - A / B * log_term(Z, B, delta1, delta2)
+
+
+def choose_root(roots, A, B, delta1, delta2):
+    """Pick the root of lowest residual Gibbs energy among those with Z > B.
+
+    At fixed T, P and composition the Gibbs energy differs between roots
+    only through G^R, so the root of lowest G^R/(RT) (C6) is the stable one
+    of the two (or only) candidates.
+
+    Returns
+    -------
+    Z : ndarray, shape (...)
+        The chosen root.
+    choice : ndarray of int8, shape (...)
+        0: only one admissible root; 1: smallest (liquid-like) root of
+        several had the lowest Gibbs energy; 2: largest (vapour-like) root
+        of several had the lowest Gibbs energy.
+    """
+    A = np.asarray(A)[..., None]
+    B = np.asarray(B)[..., None]
+    valid = np.isfinite(roots) & (roots > B)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        g = np.where(valid, residual_g_RT(np.where(valid, roots, 1.0), A, B, delta1, delta2), np.inf)
+    # the middle root of three is never stable; candidates are min and max valid
+    lo = np.where(valid, roots, np.inf).min(axis=-1)
+    hi = np.where(valid, roots, -np.inf).max(axis=-1)
+    g_lo = np.where(valid & (roots == lo[..., None]), g, np.inf).min(axis=-1)
+    g_hi = np.where(valid & (roots == hi[..., None]), g, np.inf).min(axis=-1)
+    pick_lo = g_lo < g_hi
+    Z = np.where(pick_lo, lo, hi)
+    several = lo < hi
+    choice = np.where(several, np.where(pick_lo, 1, 2), 0).astype(np.int8)
+    return Z, choice
+
+
+ROOT_CHOICE_TEXT = {
+    0: "one admissible root (Z > B)",
+    1: "smallest of several roots: lowest Gibbs energy (liquid-like)",
+    2: "largest of several roots: lowest Gibbs energy (vapour-like)",
+    3: "smallest admissible root, taken as the liquid of a two-phase state",
+    4: "largest admissible root, taken as the vapour of a two-phase state",
+}
+
+
+def select_root(roots, B, which):
+    """Take the smallest ('liquid') or largest ('vapour') admissible root.
+
+    Used by flash calculations that need a given phase's root regardless of
+    its Gibbs energy.
+    """
+    B = np.asarray(B)[..., None]
+    valid = np.isfinite(roots) & (roots > B)
+    if which == "liquid":
+        return np.where(valid, roots, np.inf).min(axis=-1)
+    return np.where(valid, roots, -np.inf).max(axis=-1)
+
+
+# --------------------------------------------------------------------------
+# departure functions and derivatives at (T, P)
+# --------------------------------------------------------------------------
+def residual_h(T, Z, a, a_T, b, B, model: CubicModel):
+    """H^R of (C7) [J/mol]."""
+    T = np.asarray(T, dtype=float)
+    return R * T * (Z - 1.0) + (T * a_T - a) / b * log_term(Z, B, model.delta1, model.delta2)
+
+
+def residual_s(Z, a_T, b, B, model: CubicModel):
+    """S^R of (C8) [J/(mol K)] at the same T and P."""
+    return R * np.log(Z - B) + a_T / b * log_term(Z, B, model.delta1, model.delta2)
+
+
+def residual_u(T, Z, a, a_T, b, B, model: CubicModel):
+    """U^R of (C9) [J/mol]."""
+    T = np.asarray(T, dtype=float)
+    return (T * a_T - a) / b * log_term(Z, B, model.delta1, model.delta2)
+
+
+def residual_cv(T, Z, a_TT, b, B, model: CubicModel):
+    """Cv^R of (C11) [J/(mol K)]."""
+    return np.asarray(T, dtype=float) * a_TT / b * log_term(Z, B, model.delta1, model.delta2)
+
+
+def ln_phi(T, P, Z, x, p: MixtureParameters, a=None, b=None):
+    """ln φ_i of (C10) per component, shape (..., nc)."""
+    T = np.asarray(T, dtype=float)
+    x = np.asarray(x, dtype=float)
+    if a is None:
+        (a,) = mixture_a(T, x, p, derivatives=0)
+    if b is None:
+        b = mixture_b(x, p)
+    A, B = dimensionless_AB(a, b, T, P)
+    d1, d2 = p.model.delta1, p.model.delta2
+    L = log_term(Z, B, d1, d2)[..., None]
+    bi_b = p.b / b[..., None]
+    sum_xa = mixture_a_partial(T, x, p)
+    Z_ = Z[..., None]
+    return (bi_b * (Z_ - 1.0) - np.log(Z_ - B[..., None])
+            - (A / B)[..., None] * (2.0 * sum_xa / a[..., None] - bi_b) * L)
+
+
+def pressure(T, v, a, b, model: CubicModel):
+    """P of (C1) [Pa] from T [K] and v [m³/mol]."""
+    T = np.asarray(T, dtype=float)
+    return R * T / (v - b) - a / ((v + model.delta1 * b) * (v + model.delta2 * b))
+
+
+def dP_dT_v(v, a_T, b, model: CubicModel):
+    """(∂P/∂T)_v of (C1) [Pa/K]: R/(v - b) - a_T/((v + δ1 b)(v + δ2 b))."""
+    return R / (v - b) - a_T / ((v + model.delta1 * b) * (v + model.delta2 * b))
+
+
+def dP_dv_T(T, v, a, b, model: CubicModel):
+    """(∂P/∂v)_T of (C1) [Pa mol/m³]:
+    -R T/(v - b)² + a (2v + (δ1 + δ2) b) / ((v + δ1 b)(v + δ2 b))²."""
+    T = np.asarray(T, dtype=float)
+    D = (v + model.delta1 * b) * (v + model.delta2 * b)
+    g = 2.0 * v + (model.delta1 + model.delta2) * b
+    return -R * T / (v - b) ** 2 + a * g / D**2
+
+
+def d2P_dv2_T(T, v, a, b, model: CubicModel):
+    """(∂²P/∂v²)_T of (C1): 2RT/(v - b)³ + 2a (D - g²)/D³ with
+    D = (v + δ1 b)(v + δ2 b), g = 2v + (δ1 + δ2) b."""
+    T = np.asarray(T, dtype=float)
+    D = (v + model.delta1 * b) * (v + model.delta2 * b)
+    g = 2.0 * v + (model.delta1 + model.delta2) * b
+    return 2.0 * R * T / (v - b) ** 3 + 2.0 * a * (D - g**2) / D**3
+
+
+def d2P_dTdv(v, a_T, b, model: CubicModel):
+    """∂²P/∂T∂v of (C1): -R/(v - b)² + a_T g / D²."""
+    D = (v + model.delta1 * b) * (v + model.delta2 * b)
+    g = 2.0 * v + (model.delta1 + model.delta2) * b
+    return -R / (v - b) ** 2 + a_T * g / D**2
+
+
+def residual_helmholtz_RT(T, v, a, b, model: CubicModel):
+    """A^R(T, v)/(RT) at the same T and v [-] (Michelsen & Mollerup 2007, ch. 3):
+
+        A^R/(RT) = -ln(1 - b/v) - a/(R T b (δ1 - δ2)) ln[(v + δ1 b)/(v + δ2 b)]
+
+    Used as the oracle of the derivative checks; not on the hot path.
+    """
+    T = np.asarray(T, dtype=float)
+    d1, d2 = model.delta1, model.delta2
+    return (-np.log(1.0 - b / v)
+            - a / (R * T * b * (d1 - d2)) * np.log((v + d1 * b) / (v + d2 * b)))
+
+
+def phase_identification_parameter(T, v, a, a_T, b, model: CubicModel):
+    """Π of Venkatarathnam & Oellrich, Fluid Phase Equilib. 301 (2011) 225-233, Eq. 6:
+
+        Π = v [ (∂²P/∂T∂v)/(∂P/∂T)_v - (∂²P/∂v²)_T/(∂P/∂v)_T ]
+
+    Π > 1: liquid-like; Π ≤ 1: vapour-like (for a single-phase state).
+    """
+    return v * (d2P_dTdv(v, a_T, b, model) / dP_dT_v(v, a_T, b, model)
+                - d2P_dv2_T(T, v, a, b, model) / dP_dv_T(T, v, a, b, model))
+
+
+def solve_volume_from_TP(T, P, x, p: MixtureParameters, which="stable"):
+    """Molar volume(s) of the cubic at T, P and composition x.
+
+    Parameters
+    ----------
+    which : {"stable", "liquid", "vapour"} or int array
+        "stable": root of lowest Gibbs energy (with the choice code of
+        :func:`choose_root`); "liquid"/"vapour": smallest/largest
+        admissible root.  An integer array (0 stable, 1 liquid, 2 vapour)
+        chooses per state.
+
+    Returns
+    -------
+    dict with Z, v, a, a_T, a_TT, b, A, B, roots, choice.
+    """
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    a, a_T, a_TT = mixture_a(T, x, p)
+    b = mixture_b(x, p)
+    A, B = dimensionless_AB(a, b, T, P)
+    c2, c1, c0 = cubic_coefficients(A, B, p.model.delta1, p.model.delta2)
+    roots = cubic_roots(c2, c1, c0)
+    Z, choice = choose_root(roots, A, B, p.model.delta1, p.model.delta2)
+    if isinstance(which, str):
+        code = {"stable": 0, "liquid": 1, "vapour": 2}[which]
+    else:
+        code = np.asarray(which)
+    if np.any(code != 0):
+        Zl = select_root(roots, B, "liquid")
+        Zv = select_root(roots, B, "vapour")
+        Z = np.where(code == 1, Zl, np.where(code == 2, Zv, Z))
+        choice = np.where(code == 0, choice, code + 2).astype(np.int8)
+    v = Z * R * T / P
+    return dict(Z=Z, v=v, a=a, a_T=a_T, a_TT=a_TT, b=b, A=A, B=B, roots=roots, choice=choice)

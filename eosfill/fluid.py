@@ -1,0 +1,517 @@
+"""The public face of the engine: :class:`Fluid` and the :class:`State` it returns.
+
+>>> import eosfill
+>>> gas = eosfill.Fluid({"methane": 0.9, "ethane": 0.06, "nitrogen": 0.04}, model="PR")
+>>> st = gas.state(T=300.0, P=20e6)
+>>> round(st.Z, 3)
+0.879
+
+Molar SI throughout (K, Pa, m³/mol, J/mol, J/(mol K)); ``*_mass`` properties
+per kg.  Reference state: each component as ideal gas with H = 0, S = 0 at
+298.15 K and 101 325 Pa.
+"""
+from __future__ import annotations
+
+from functools import cached_property
+
+import numpy as np
+
+from . import cubic, idealgas
+from .components import get_component, kij_matrix
+from .constants import R
+from .errors import EosfillError, InputError
+
+PHASES = ("gas", "liquid", "supercritical", "two-phase")
+GAS, LIQUID, SUPERCRITICAL, TWO_PHASE = 0, 1, 2, 3
+
+# Péneloux, Rauzy & Fréze, Fluid Phase Equilib. 8 (1982) 7-23, Eq. 8 (SRK):
+#   c_i = 0.40768 (0.29441 - Z_RA,i) R Tc,i / Pc,i
+# with the Rackett compressibility estimated by Yamada & Gunn, J. Chem. Eng.
+# Data 18 (1973) 234-236: Z_RA = 0.29056 - 0.08775 ω.
+_PENELOUX_K = 0.40768
+_PENELOUX_Z = 0.29441
+
+
+def _as_float_array(name, value):
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(name, value, "a real number or array of real numbers") from None
+    if not np.all(np.isfinite(arr)):
+        raise InputError(name, value, "finite numbers (no NaN or inf)")
+    return arr
+
+
+def _out(arr):
+    """0-d arrays leave as Python floats, others as arrays."""
+    arr = np.asarray(arr)
+    if arr.ndim == 0:
+        return arr.item()
+    return arr
+
+
+class Fluid:
+    """A pure fluid or a mixture of fixed composition, with a cubic model.
+
+    Parameters
+    ----------
+    composition : str, dict or sequence of (name, fraction)
+        One fluid name (pure), or {name: fraction}.  Names, aliases,
+        formulas and CAS numbers are accepted, case-insensitive.
+    model : {"PR", "PR78", "SRK"}
+        Peng-Robinson 1976, Peng-Robinson with the 1978 κ(ω) for ω > 0.491,
+        or Soave-Redlich-Kwong 1972.
+    kij : dict, optional
+        {(name1, name2): k_ij} overriding the bundled values.
+    basis : {"mole", "mass"}
+        Whether the fractions are mole or mass fractions.
+    normalise : bool
+        Rescale fractions to sum to one; otherwise they must sum to one
+        within 1e-9.
+    volume_shift : None, "peneloux" or array_like
+        Péneloux volume translation: None (off), "peneloux" (Péneloux et al.
+        1982 Eq. 8 with Yamada-Gunn Z_RA; published for SRK, applied to PR as
+        the same form) or per-component shifts c_i [m³/mol].  The shift moves
+        v and h (h - P c) and ln φ_i (- c_i P/RT); u, s and phase equilibria
+        are unchanged.
+
+    Examples
+    --------
+    >>> pure = Fluid("nitrogen", model="SRK")
+    >>> round(pure.state(T=300.0, P=1e5).Z, 4)
+    0.9998
+    """
+
+    def __init__(self, composition, model="PR", kij=None, basis="mole", normalise=False,
+                 volume_shift=None):
+        if isinstance(composition, str):
+            composition = {composition: 1.0}
+        elif not isinstance(composition, dict):
+            try:
+                composition = dict(composition)
+            except (TypeError, ValueError):
+                raise InputError("composition", composition,
+                                 "a fluid name, a {name: fraction} dict or (name, fraction) pairs") from None
+        if not composition:
+            raise InputError("composition", composition, "at least one fluid")
+        comps, fracs = [], []
+        for name, frac in composition.items():
+            comp = get_component(name)
+            if any(c.name == comp.name for c in comps):
+                raise InputError(f"composition[{name!r}]", frac, f"each fluid once ({comp.name} appears twice)")
+            try:
+                f = float(frac)
+            except (TypeError, ValueError):
+                raise InputError(f"composition[{name!r}]", frac, "a fraction in [0, 1]") from None
+            if not np.isfinite(f) or f < 0.0 or f > 1.0 + 1e-12:
+                raise InputError(f"composition[{name!r}]", frac, "a fraction in [0, 1]")
+            comps.append(comp)
+            fracs.append(f)
+        fracs = np.array(fracs)
+        total = fracs.sum()
+        if total <= 0.0:
+            raise InputError("composition", composition, "fractions with a positive sum")
+        if not normalise and abs(total - 1.0) > 1e-9:
+            raise InputError("composition", composition,
+                             f"fractions summing to 1 within 1e-9 (they sum to {total!r}); "
+                             "pass normalise=True to rescale")
+        fracs = fracs / total
+        basis = str(basis).lower()
+        if basis not in ("mole", "mass"):
+            raise InputError("basis", basis, '"mole" or "mass"')
+        M = np.array([c.M for c in comps])
+        if basis == "mass":
+            n = fracs / M
+            fracs = n / n.sum()
+        mname = str(model).upper()
+        if mname not in cubic.MODELS:
+            raise InputError("model", model, '"PR", "PR78" or "SRK"')
+        self.model = cubic.MODELS[mname]
+        self.components = tuple(comps)
+        self.names = tuple(c.name for c in comps)
+        self.mole_fractions = fracs
+        self.Tc = np.array([c.Tc for c in comps])
+        self.Pc = np.array([c.Pc for c in comps])
+        self.omega = np.array([c.omega for c in comps])
+        self.molar_masses = M
+        self.kij, self.kij_sources = kij_matrix(list(self.names), mname, kij)
+        self.cp_coeffs = np.array([c.cp for c in comps])
+        self.cp_Tmin = np.array([c.cp_Tmin for c in comps])
+        self.cp_Tmax = np.array([c.cp_Tmax for c in comps])
+        for arr in (self.mole_fractions, self.Tc, self.Pc, self.omega, self.molar_masses,
+                    self.kij, self.cp_coeffs, self.cp_Tmin, self.cp_Tmax):
+            arr.setflags(write=False)
+        self.params = cubic.MixtureParameters.build(self.model, self.Tc, self.Pc, self.omega, self.kij)
+        if volume_shift is None:
+            c = np.zeros(len(comps))
+        elif isinstance(volume_shift, str):
+            if volume_shift.lower() != "peneloux":
+                raise InputError("volume_shift", volume_shift, 'None, "peneloux" or per-component shifts [m3/mol]')
+            Z_RA = 0.29056 - 0.08775 * self.omega
+            c = _PENELOUX_K * (_PENELOUX_Z - Z_RA) * R * self.Tc / self.Pc
+        else:
+            c = _as_float_array("volume_shift", volume_shift)
+            if c.shape != (len(comps),):
+                raise InputError("volume_shift", volume_shift, f"{len(comps)} shifts, one per component [m3/mol]")
+        self.volume_shift = c
+        self.volume_shift.setflags(write=False)
+
+    # ------------------------------------------------------------------
+    @property
+    def nc(self) -> int:
+        """Number of components."""
+        return len(self.names)
+
+    @property
+    def is_pure(self) -> bool:
+        return self.nc == 1
+
+    @property
+    def molar_mass(self) -> float:
+        """Mixture molar mass [kg/mol]."""
+        return float(self.mole_fractions @ self.molar_masses)
+
+    @property
+    def mass_fractions(self) -> np.ndarray:
+        w = self.mole_fractions * self.molar_masses
+        return w / w.sum()
+
+    @property
+    def pseudo_critical(self):
+        """Kay's-rule pseudo-critical (Σ x Tc, Σ x Pc) [K, Pa] (Kay, Ind. Eng. Chem.
+        28 (1936) 1014); used only to label single-phase states 'supercritical'."""
+        x = self.mole_fractions
+        return float(x @ self.Tc), float(x @ self.Pc)
+
+    def __repr__(self):
+        if self.is_pure:
+            return f"Fluid({self.names[0]!r}, model={self.model.name!r})"
+        comp = ", ".join(f"{n!r}: {x:.6g}" for n, x in zip(self.names, self.mole_fractions))
+        return f"Fluid({{{comp}}}, model={self.model.name!r})"
+
+    def with_composition(self, x):
+        """The same components and model with other mole fractions (kij kept)."""
+        new = object.__new__(Fluid)
+        new.__dict__.update(self.__dict__)
+        x = np.array(x, dtype=float)
+        x.setflags(write=False)
+        new.mole_fractions = x
+        return new
+
+    # ------------------------------------------------------------------
+    def state(self, **spec):
+        """The equilibrium state at one pair of specifications.
+
+        Exactly two of ``T`` [K], ``P`` [Pa], ``v`` [m³/mol], ``h`` [J/mol],
+        ``u`` [J/mol], ``s`` [J/(mol K)]; scalars or arrays that broadcast.
+
+        Returns
+        -------
+        State
+        """
+        from .states import solve_state
+
+        return solve_state(self, **spec)
+
+    def single_phase(self, T, P, x=None, which="stable"):
+        """A single-phase state at T, P (no phase-split test).
+
+        ``which`` picks the cubic's root: "stable" (lowest Gibbs energy),
+        "liquid" (smallest) or "vapour" (largest).  ``x`` (shape (..., nc))
+        overrides the fluid's composition, for phases of a flash.
+        """
+        T = _as_float_array("T", T)
+        P = _as_float_array("P", P)
+        if np.any(T <= 0.0):
+            raise InputError("T", _out(T), "T > 0 K")
+        if np.any(P <= 0.0):
+            raise InputError("P", _out(P), "P > 0 Pa")
+        try:
+            T, P = np.broadcast_arrays(T, P)
+        except ValueError:
+            raise InputError("T, P", (np.shape(T), np.shape(P)), "shapes that broadcast together") from None
+        x = self.mole_fractions if x is None else np.asarray(x, dtype=float)
+        return _single_phase_state(self, T, P, x, which)
+
+    def critical_point_pure(self):
+        """Model critical point (Tc, Pc) of a pure fluid [K, Pa] (exact for the cubic)."""
+        if not self.is_pure:
+            raise InputError("fluid", self.names, "a pure fluid")
+        return float(self.Tc[0]), float(self.Pc[0])
+
+
+def _single_phase_state(fluid: Fluid, T, P, x, which="stable"):
+    p = fluid.params
+    sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
+    Z, a, a_T, b, B = sol["Z"], sol["a"], sol["a_T"], sol["b"], sol["B"]
+    if not np.all(np.isfinite(Z)):
+        bad = np.argwhere(~np.isfinite(np.atleast_1d(Z)))[:3].ravel().tolist()
+        raise EosfillError(f"no admissible root of the cubic at rows {bad}")
+    model = p.model
+    x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
+    present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
+    idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
+    h0 = idealgas.mixture_h0(T, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
+    s0 = idealgas.mixture_s0(T, P, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
+    hR = cubic.residual_h(T, Z, a, a_T, b, B, model)
+    sR = cubic.residual_s(Z, a_T, b, B, model)
+    v_eos = sol["v"]
+    c = np.asarray(x) @ fluid.volume_shift
+    v = v_eos - c
+    h = h0 + hR - P * c
+    u = h0 + hR - P * v_eos  # u = h - P v; unchanged by the shift
+    s = s0 + sR
+    st = State(fluid)
+    st._set(T=T, P=P, v=v, h=h, u=u, s=s, beta=None, x=x_arr, sol=sol, h_res=hR, s_res=sR,
+             v_eos=v_eos, shift=c)
+    # phase label (Venkatarathnam & Oellrich 2011 Π; Kay's rule pseudo-critical)
+    if np.ndim(x) == 1:
+        Tpc, Ppc = float(x @ fluid.Tc), float(x @ fluid.Pc)
+    else:
+        Tpc, Ppc = x @ fluid.Tc, x @ fluid.Pc
+    Pi = cubic.phase_identification_parameter(T, v_eos, a, a_T, b, model)
+    code = np.where(Pi > 1.0, LIQUID, GAS)
+    code = np.where((T >= Tpc) & (P >= Ppc), SUPERCRITICAL, code)
+    st._phase_code = code.astype(np.int8)
+    st._beta = np.where(code == LIQUID, 0.0, 1.0)
+    return st
+
+
+class State:
+    """An equilibrium state (or a batch of them) of a :class:`Fluid`.
+
+    Every attribute is a float for a scalar specification and an array of
+    the broadcast shape for a batch.  Molar SI units; ``*_mass`` per kg.
+
+    Attributes
+    ----------
+    T [K], P [Pa], v [m³/mol], h, u [J/mol], s [J/(mol K)], Z [-]
+    phase : str or ndarray of str
+        "gas", "liquid", "supercritical" or "two-phase".
+    vapor_fraction : molar vapour fraction β (1 single-phase gas, 0 liquid).
+    liquid, vapour : State or None
+        The two phases of two-phase rows (None when no row is two-phase).
+        In rows that are single-phase both hold that single phase.
+    """
+
+    def __init__(self, fluid: Fluid):
+        self.fluid = fluid
+        self.liquid = None
+        self.vapour = None
+        self.solver_info = {}
+
+    def _set(self, T, P, v, h, u, s, beta, x, sol=None, h_res=None, s_res=None, v_eos=None, shift=None):
+        self._T, self._P, self._v, self._h, self._u, self._s = T, P, v, h, u, s
+        self._x = x
+        self._sol = sol
+        self._h_res, self._s_res = h_res, s_res
+        self._v_eos = v if v_eos is None else v_eos
+        self._shift = 0.0 if shift is None else shift
+        if beta is not None:
+            self._beta = beta
+
+    # --- primary ----------------------------------------------------------
+    T = property(lambda self: _out(self._T), doc="Temperature [K].")
+    P = property(lambda self: _out(self._P), doc="Pressure [Pa].")
+    v = property(lambda self: _out(self._v), doc="Molar volume [m³/mol].")
+    h = property(lambda self: _out(self._h), doc="Molar enthalpy [J/mol].")
+    u = property(lambda self: _out(self._u), doc="Molar internal energy [J/mol].")
+    s = property(lambda self: _out(self._s), doc="Molar entropy [J/(mol K)].")
+
+    @property
+    def shape(self):
+        return np.shape(self._T)
+
+    @property
+    def Z(self):
+        """Compressibility factor P v/(R T) [-]."""
+        return _out(self._P * self._v / (R * self._T))
+
+    @property
+    def g(self):
+        """Molar Gibbs energy h - T s [J/mol]."""
+        return _out(self._h - self._T * self._s)
+
+    @property
+    def phase_code(self):
+        return self._phase_code
+
+    @property
+    def phase(self):
+        """Phase label(s): "gas", "liquid", "supercritical" or "two-phase"."""
+        labels = np.asarray(PHASES, dtype=object)[np.asarray(self._phase_code)]
+        return labels if isinstance(labels, np.ndarray) and labels.ndim else str(labels)
+
+    @property
+    def vapor_fraction(self):
+        """Molar vapour fraction β [-]."""
+        return _out(self._beta)
+
+    @property
+    def x(self):
+        """Overall mole fractions, shape (..., nc)."""
+        return self._x
+
+    @property
+    def root_choice(self):
+        """Which root of the cubic was taken, in words (single-phase states)."""
+        choice = self._sol["choice"]
+        text = np.vectorize(cubic.ROOT_CHOICE_TEXT.get, otypes=[object])(choice)
+        return text if np.ndim(text) else str(text[()])
+
+    @property
+    def roots(self):
+        """All real roots Z of the cubic (NaN for complex), shape (..., 3)."""
+        return self._sol["roots"]
+
+    # --- mass-based -------------------------------------------------------
+    @property
+    def molar_mass(self):
+        """Molar mass of the (overall) content [kg/mol]."""
+        return _out(np.asarray(self._x) @ self.fluid.molar_masses)
+
+    @property
+    def rho(self):
+        """Molar density [mol/m³]."""
+        return _out(1.0 / self._v)
+
+    @property
+    def rho_mass(self):
+        """Mass density [kg/m³]."""
+        return _out((np.asarray(self._x) @ self.fluid.molar_masses) / self._v)
+
+    def _per_mass(self, value):
+        return _out(np.asarray(value) / (np.asarray(self._x) @ self.fluid.molar_masses))
+
+    h_mass = property(lambda self: self._per_mass(self._h), doc="Specific enthalpy [J/kg].")
+    u_mass = property(lambda self: self._per_mass(self._u), doc="Specific internal energy [J/kg].")
+    s_mass = property(lambda self: self._per_mass(self._s), doc="Specific entropy [J/(kg K)].")
+    v_mass = property(lambda self: self._per_mass(self._v), doc="Specific volume [m³/kg].")
+    cp_mass = property(lambda self: self._per_mass(self._single("cp")), doc="Cp [J/(kg K)].")
+    cv_mass = property(lambda self: self._per_mass(self._single("cv")), doc="Cv [J/(kg K)].")
+
+    # --- single-phase derivative properties --------------------------------
+    def _require_single(self, what):
+        if self._sol is None or np.any(self._phase_code == TWO_PHASE):
+            rows = np.argwhere(np.atleast_1d(self._phase_code) == TWO_PHASE).ravel()[:5].tolist()
+            raise EosfillError(
+                f"{what} is a single-phase property; rows {rows} are two-phase "
+                "(use state.liquid / state.vapour)")
+
+    @cached_property
+    def _derivs(self):
+        self._require_single("derivative property")
+        sol = self._sol
+        f = self.fluid
+        p = f.params
+        T, P = self._T, self._P
+        v, a, a_T, a_TT, b, B, Z = sol["v"], sol["a"], sol["a_T"], sol["a_TT"], sol["b"], sol["B"], sol["Z"]
+        dPdT = cubic.dP_dT_v(v, a_T, b, p.model)
+        dPdv = cubic.dP_dv_T(T, v, a, b, p.model)
+        cv = (idealgas.mixture_cp0(T, self._x, f.cp_coeffs, f.cp_Tmin, f.cp_Tmax) - R
+              + cubic.residual_cv(T, Z, a_TT, b, B, p.model))
+        cp = cv - T * dPdT**2 / dPdv
+        return dict(dPdT=dPdT, dPdv=dPdv, cv=cv, cp=cp)
+
+    def _single(self, name):
+        return self._derivs[name]
+
+    @property
+    def dP_dT_v(self):
+        """(∂P/∂T)_v [Pa/K]."""
+        return _out(self._single("dPdT"))
+
+    @property
+    def dP_dv_T(self):
+        """(∂P/∂v)_T [Pa mol/m³]."""
+        return _out(self._single("dPdv"))
+
+    @property
+    def cv(self):
+        """Isochoric heat capacity [J/(mol K)]: Cv° + Cv^R (C11)."""
+        return _out(self._single("cv"))
+
+    @property
+    def cp(self):
+        """Isobaric heat capacity [J/(mol K)]: Cv - T (∂P/∂T)_v² / (∂P/∂v)_T."""
+        return _out(self._single("cp"))
+
+    @property
+    def kappa_T(self):
+        """Isothermal compressibility -1/v (∂v/∂P)_T [1/Pa]."""
+        return _out(-1.0 / (self._v * self._single("dPdv")))
+
+    @property
+    def speed_of_sound(self):
+        """Speed of sound w = v √(-(Cp/Cv)(∂P/∂v)_T / M) [m/s]."""
+        d = self._derivs
+        M = np.asarray(self._x) @ self.fluid.molar_masses
+        return _out(self._v * np.sqrt(-(d["cp"] / d["cv"]) * d["dPdv"] / M))
+
+    @property
+    def joule_thomson(self):
+        """Joule-Thomson coefficient μ_JT = (T (∂v/∂T)_P - v)/Cp [K/Pa]."""
+        d = self._derivs
+        dvdT = -d["dPdT"] / d["dPdv"]
+        return _out((self._T * dvdT - self._v) / d["cp"])
+
+    @property
+    def gamma(self):
+        """Heat-capacity ratio Cp/Cv [-]."""
+        d = self._derivs
+        return _out(d["cp"] / d["cv"])
+
+    # --- departures and fugacity --------------------------------------------
+    @property
+    def h_res(self):
+        """Residual enthalpy H^R (C7) [J/mol]."""
+        self._require_single("h_res")
+        return _out(self._h_res)
+
+    @property
+    def s_res(self):
+        """Residual entropy S^R at the same T, P (C8) [J/(mol K)]."""
+        self._require_single("s_res")
+        return _out(self._s_res)
+
+    @property
+    def u_res(self):
+        """Residual internal energy U^R (C9) [J/mol]."""
+        self._require_single("u_res")
+        return _out(self._h_res - R * self._T * (self._sol["Z"] - 1.0))
+
+    @property
+    def g_res(self):
+        """Residual Gibbs energy G^R (C6) [J/mol]."""
+        self._require_single("g_res")
+        return _out(self._h_res - self._T * self._s_res)
+
+    @property
+    def a_res(self):
+        """Residual Helmholtz energy A^R = G^R - R T (Z - 1) at the same T, P [J/mol]."""
+        self._require_single("a_res")
+        return _out(self._h_res - self._T * self._s_res - R * self._T * (self._sol["Z"] - 1.0))
+
+    @cached_property
+    def _lnphi(self):
+        self._require_single("ln_phi")
+        sol = self._sol
+        lnphi = cubic.ln_phi(self._T, self._P, sol["Z"], self._x, self.fluid.params, a=sol["a"], b=sol["b"])
+        # Péneloux shift: ln φ_i - c_i P/(R T)
+        return lnphi - self.fluid.volume_shift * (self._P / (R * self._T))[..., None]
+
+    @property
+    def ln_phi(self):
+        """ln of the fugacity coefficient of each component (C10), shape (..., nc)."""
+        return self._lnphi
+
+    @property
+    def fugacity(self):
+        """Fugacity of each component x_i φ_i P [Pa], shape (..., nc)."""
+        return np.asarray(self._x) * np.exp(self._lnphi) * np.asarray(self._P)[..., None]
+
+    def __repr__(self):
+        if np.ndim(self._T) == 0:
+            return (f"State(T={self.T:.6g} K, P={self.P:.6g} Pa, v={self.v:.6g} m3/mol, "
+                    f"h={self.h:.6g} J/mol, s={self.s:.6g} J/(mol K), phase={self.phase!r})")
+        return f"State(batch of shape {self.shape})"
