@@ -1,0 +1,295 @@
+"""Command line: ``eosfill run | state | fluids | explain``.
+
+Exit codes: 0 success; 2 bad input (a wrong option, a scenario error, an
+unknown fluid); 3 a solver failed or is not available.  Messages go to
+stderr, results to stdout.
+
+Examples::
+
+    eosfill state --fluid "methane=0.9,ethane=0.1" --T "15 degC" --P "200 bar"
+    eosfill explain --fluid nitrogen --model SRK --T "300 K" --P "5 MPa"
+    eosfill fluids
+    eosfill run data/scenarios/cng_fill.toml --json result.json
+"""
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import sys
+import warnings
+
+from . import __version__
+from .errors import EosfillError, InputError
+
+EXIT_OK, EXIT_INPUT, EXIT_SOLVER = 0, 2, 3
+
+CAUTION = ("Caution: estimates from an equation of state and simplified models; local codes, the "
+           "vessel's approval documents and licensed practice govern.")
+REFERENCE = "Reference state: each component as ideal gas, H = 0 and S = 0 at 298.15 K and 101325 Pa."
+
+
+# --------------------------------------------------------------------------
+# helpers
+# --------------------------------------------------------------------------
+def parse_fluid_text(text: str) -> dict:
+    """``"methane=0.9,ethane=0.1"`` (or ``;`` separated, or one name) -> {name: fraction}."""
+    text = (text or "").strip()
+    if not text:
+        raise InputError("--fluid", text, 'a fluid name or "name=fraction,name=fraction"')
+    if "=" not in text:
+        return {text: 1.0}
+    comp = {}
+    for part in text.replace(";", ",").split(","):
+        if not part.strip():
+            continue
+        if "=" not in part:
+            raise InputError("--fluid", text, message=f"--fluid {text!r}: {part.strip()!r} has no '=fraction'")
+        name, _, value = part.rpartition("=")
+        try:
+            comp[name.strip()] = float(value)
+        except ValueError:
+            raise InputError("--fluid", text, message=f"--fluid {text!r}: fraction {value.strip()!r} "
+                             "is not a number") from None
+    return comp
+
+
+def parse_kij_text(items) -> dict:
+    """``["methane/carbon dioxide=0.09", ...]`` -> {(name1, name2): kij}."""
+    out = {}
+    for item in items or []:
+        pair, sep, value = item.rpartition("=")
+        names = pair.split("/")
+        if not sep or len(names) != 2:
+            raise InputError("--kij", item, message=f"--kij {item!r}: expected \"name1/name2=value\"")
+        try:
+            out[(names[0].strip(), names[1].strip())] = float(value)
+        except ValueError:
+            raise InputError("--kij", item, message=f"--kij {item!r}: {value!r} is not a number") from None
+    return out
+
+
+def _make_fluid(args):
+    from .fluid import Fluid
+
+    return Fluid(parse_fluid_text(args.fluid), model=args.model, kij=parse_kij_text(args.kij) or None,
+                 basis=args.basis, normalise=args.normalise)
+
+
+def _fluid_options(p):
+    p.add_argument("--fluid", required=True,
+                   help='one fluid ("nitrogen") or a mixture ("methane=0.9,ethane=0.1")')
+    p.add_argument("--model", default="PR", type=str.upper, choices=("PR", "PR78", "SRK"),
+                   help="cubic equation of state (default PR)")
+    p.add_argument("--basis", default="mole", choices=("mole", "mass"),
+                   help="fractions in --fluid are mole (default) or mass fractions")
+    p.add_argument("--normalise", action="store_true", help="rescale fractions to sum to one")
+    p.add_argument("--kij", action="append", metavar="A/B=VALUE",
+                   help='binary interaction parameter override, e.g. "methane/carbon dioxide=0.09" (repeatable)')
+    p.add_argument("--ambient-pressure", default="101325 Pa",
+                   help="zero of gauge pressures such as '20 barg' (default 101325 Pa)")
+
+
+_STATE_KINDS = {"T": "temperature", "P": "pressure", "v": "molar_volume", "h": "molar_energy",
+                "u": "molar_energy", "s": "molar_entropy"}
+
+
+def _row(label, value, unit, alt=None):
+    return (label, value, unit, alt or "")
+
+
+def _state_table(fluid, st):
+    from .units import format_number as fn
+
+    M = st.molar_mass
+    rows = [
+        _row("phase", st.phase, "", st.root_choice if st.phase != "two-phase" else ""),
+        _row("temperature", fn(st.T - 273.15), "°C", f"{fn(st.T)} K"),
+        _row("pressure", fn(st.P / 1e5), "bar", f"{fn(st.P)} Pa"),
+        _row("density", fn(st.rho_mass), "kg/m³", f"{fn(st.rho)} mol/m³"),
+        _row("molar volume", fn(st.v), "m³/mol", f"{fn(st.v_mass)} m³/kg"),
+        _row("compressibility Z", fn(st.Z), "", ""),
+        _row("enthalpy h", fn(st.h), "J/mol", f"{fn(st.h_mass / 1e3)} kJ/kg"),
+        _row("internal energy u", fn(st.u), "J/mol", f"{fn(st.u_mass / 1e3)} kJ/kg"),
+        _row("entropy s", fn(st.s), "J/(mol K)", f"{fn(st.s_mass / 1e3)} kJ/(kg K)"),
+        _row("molar mass", fn(M * 1e3), "g/mol", f"{fn(M)} kg/mol"),
+    ]
+    derived = [
+        ("isobaric heat capacity cp", lambda: (fn(st.cp), "J/(mol K)", f"{fn(st.cp_mass / 1e3)} kJ/(kg K)")),
+        ("isochoric heat capacity cv", lambda: (fn(st.cv), "J/(mol K)", f"{fn(st.cv_mass / 1e3)} kJ/(kg K)")),
+        ("heat-capacity ratio cp/cv", lambda: (fn(st.gamma), "", "")),
+        ("speed of sound", lambda: (fn(st.speed_of_sound), "m/s", "")),
+        ("Joule-Thomson coefficient", lambda: (fn(st.joule_thomson * 1e5), "K/bar", f"{fn(st.joule_thomson)} K/Pa")),
+    ]
+    for label, get in derived:
+        try:
+            rows.append(_row(label, *get()))
+        except EosfillError:
+            rows.append(_row(label, "n/a (two-phase)", "", ""))
+    if fluid.nc > 1:
+        for n, x, w in zip(fluid.names, fluid.mole_fractions, fluid.mass_fractions):
+            rows.append(_row(f"x {n}", fn(x), "mol/mol", f"{fn(w)} kg/kg"))
+    width = max(len(r[0]) for r in rows)
+    vw = max(len(str(r[1])) for r in rows)
+    lines = [f"{fluid!r}"]
+    for label, value, unit, alt in rows:
+        line = f"  {label:<{width}}  {str(value):>{vw}} {unit}"
+        if alt:
+            line = f"{line:<{width + vw + 16}}  ({alt})"
+        lines.append(line.rstrip())
+    return "\n".join(lines)
+
+
+# --------------------------------------------------------------------------
+# commands
+# --------------------------------------------------------------------------
+def cmd_state(args):
+    from .units import parse_quantity
+
+    fluid = _make_fluid(args)
+    amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
+    spec = {}
+    for key, kind in _STATE_KINDS.items():
+        raw = getattr(args, key)
+        if raw is not None:
+            spec[key] = parse_quantity(raw, kind, f"--{key}", ambient_pressure=amb, molar_mass=fluid.molar_mass)
+    if len(spec) != 2:
+        raise InputError("state", sorted(spec), message="give exactly two of --T, --P, --v, --h, --u, --s "
+                         f"(got {', '.join('--' + k for k in spec) or 'none'})")
+    st = fluid.state(**spec)
+    print(_state_table(fluid, st))
+    print(REFERENCE)
+    print(CAUTION)
+    return EXIT_OK
+
+
+def cmd_explain(args):
+    from .trace import format_trace, trace_state
+    from .units import parse_quantity
+
+    fluid = _make_fluid(args)
+    amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
+    T = parse_quantity(args.T, "temperature", "--T")
+    P = parse_quantity(args.P, "pressure", "--P", ambient_pressure=amb)
+    print(format_trace(trace_state(fluid, T, P)))
+    return EXIT_OK
+
+
+def cmd_fluids(args):
+    from .components import load_components
+
+    comps, _ = load_components()
+    header = ("name", "formula", "CAS", "M g/mol", "Tc K", "Pc bar", "omega", "critical data", "Cp° data")
+    rows = [header]
+    for c in comps.values():
+        rows.append((c.name, c.formula, c.cas, f"{c.M * 1e3:.5f}", f"{c.Tc:.3f}", f"{c.Pc / 1e5:.4f}",
+                     f"{c.omega:.5f}", c.crit_source, c.cp_source))
+    widths = [max(len(r[k]) for r in rows) for k in range(len(header))]
+    for r in rows:
+        print("  ".join(f"{v:<{w}}" for v, w in zip(r, widths)).rstrip())
+    print(f"{len(rows) - 1} fluids; sources are keys of data/SOURCES.md.")
+    return EXIT_OK
+
+
+def cmd_run(args):
+    from pathlib import Path
+
+    from .scenario import load_scenario
+
+    scenario = load_scenario(args.scenario)
+    for key in ("json", "csv", "report"):
+        raw = getattr(args, key)
+        if raw is None:
+            continue
+        p = Path(raw)
+        if not p.parent.resolve().is_dir():
+            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: the folder {p.parent} does not exist")
+        if p.is_dir():
+            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: is a folder; give a file name")
+        setattr(scenario.output, key, p)
+    for line in scenario.summary():
+        print(line)
+    if importlib.util.find_spec("eosfill.jobs") is None:
+        print(f"eosfill: scenario {args.scenario} is valid, but this eosfill has no solver for "
+              f"kind {scenario.kind!r} yet (module eosfill.jobs is missing); nothing was computed "
+              "or written.", file=sys.stderr)
+        return EXIT_SOLVER
+    from . import jobs
+
+    result = jobs.run_scenario(scenario)
+    if result is not None:
+        print(result)
+    print(CAUTION)
+    return EXIT_OK
+
+
+# --------------------------------------------------------------------------
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="eosfill",
+        description="Fills and vents of rigid pressure vessels with real gases and mixtures, "
+                    "from published cubic equations of state. " + CAUTION,
+    )
+    parser.add_argument("--version", action="version", version=f"eosfill {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+
+    p = sub.add_parser("run", help="run a scenario file (TOML)")
+    p.add_argument("scenario", help="scenario file, e.g. fill.toml (schema: docs/scenario.md)")
+    p.add_argument("--json", metavar="FILE", help="write the results as JSON")
+    p.add_argument("--csv", metavar="FILE", help="write the time series or table as CSV")
+    p.add_argument("--report", metavar="FILE", help="write an HTML report")
+    p.set_defaults(func=cmd_run)
+
+    p = sub.add_parser("state", help="properties of a fluid at two given properties")
+    _fluid_options(p)
+    p.add_argument("--T", help='temperature, e.g. "15 degC", "300 K"')
+    p.add_argument("--P", help='pressure, e.g. "200 bar", "3000 psi", "20 barg"')
+    p.add_argument("--v", help='molar or specific volume, e.g. "1e-4 m3/mol", "0.005 m3/kg"')
+    p.add_argument("--h", help='enthalpy, e.g. "-1200 J/mol", "350 kJ/kg"')
+    p.add_argument("--u", help="internal energy, as --h")
+    p.add_argument("--s", help='entropy, e.g. "-20 J/mol/K", "4 kJ/kg/K"')
+    p.set_defaults(func=cmd_state)
+
+    p = sub.add_parser("fluids", help="list the bundled fluids and their data sources")
+    p.set_defaults(func=cmd_fluids)
+
+    p = sub.add_parser("explain", help="calculation trace of a single-phase state at T, P")
+    _fluid_options(p)
+    p.add_argument("--T", required=True, help='temperature, e.g. "15 degC"')
+    p.add_argument("--P", required=True, help='pressure, e.g. "200 bar"')
+    p.set_defaults(func=cmd_explain)
+    return parser
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    print(f"eosfill: warning: {message}", file=sys.stderr)
+
+
+def main(argv=None) -> int:
+    """Entry point of the ``eosfill`` command; returns the exit code."""
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
+        return int(exc.code or 0)
+    old = warnings.showwarning
+    warnings.showwarning = _show_warning
+    try:
+        return args.func(args)
+    except InputError as exc:
+        print(f"eosfill: error: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except EosfillError as exc:
+        print(f"eosfill: solver failure: {exc}", file=sys.stderr)
+        return EXIT_SOLVER
+    except BrokenPipeError:  # output piped into `head` and the like
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return EXIT_OK
+    finally:
+        warnings.showwarning = old
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,306 @@
+"""Quantities as people write them, converted to SI at the outside edge.
+
+Scenario files and the command line give values with their units, as an
+engineer would write them: ``"350 bar"``, ``"5000 psi"``, ``"20 barg"``,
+``"15 degC"``, ``"60 degF"``, ``"50 L"``, ``"2.5 m3"``, ``"3 MPa/min"``,
+``"500 W/m2/K"``.  The conversion itself is done by the units library
+`pint <https://pint.readthedocs.io>`_ (its definitions follow the SI Brochure
+and NIST SP 811); this module only
+
+* splits the number from the unit and tidies the unit the way people type it
+  (``m2`` -> ``m**2``, ``°C``/``C`` -> ``degC`` for temperatures),
+* handles gauge pressure: a pressure unit followed by ``g``, ``(g)`` or
+  ``gauge`` (``barg``, ``psig``, ``kPag``, ``bar(g)``, ``bar gauge``) is
+  relative to the ambient pressure, which is added (default 101 325 Pa, the
+  standard atmosphere; a scenario may state its own).  ``bara``, ``psia``,
+  ``bar(a)`` and ``bar abs`` are absolute, like a bare ``bar``,
+* checks the dimension against the kind of quantity expected, and raises
+  :class:`eosfill.errors.InputError` naming the key path, the value and the
+  expected dimension.
+
+pint is imported on first use so that ``import eosfill`` stays fast.
+
+>>> parse_quantity("20 barg", "pressure", "supply.pressure")
+2101325.0
+>>> parse_quantity("15 degC", "temperature", "ambient.temperature")
+288.15
+>>> format_quantity(35e6, "pressure")
+'350 bar'
+"""
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+from .errors import InputError
+
+STANDARD_ATMOSPHERE = 101325.0  # Pa, exact (BIPM SI Brochure 9th ed. 2019, Table 8: 1 atm = 101 325 Pa)
+
+
+@dataclass(frozen=True)
+class Kind:
+    """One kind of quantity: its SI unit, its words and its engineer's unit.
+
+    Attributes
+    ----------
+    si : str
+        pint spelling of the SI unit values are returned in.
+    words : str
+        The dimension in words, for messages.
+    examples : str
+        How a user may write it, for messages.
+    display : str
+        pint spelling of the unit values are printed in by default.
+    label : str
+        How the display unit is printed.
+    mass_si : str or None
+        For molar kinds: the per-kilogram SI unit also accepted (converted with
+        the molar mass).
+    """
+
+    si: str
+    words: str
+    examples: str
+    display: str
+    label: str
+    mass_si: str | None = None
+
+
+KINDS = {
+    "pressure": Kind("Pa", "a pressure", '"350 bar", "5000 psi", "20 barg", "3 MPa"', "bar", "bar"),
+    "temperature": Kind("K", "a temperature", '"15 degC", "60 degF", "300 K"', "degC", "°C"),
+    "temperature_difference": Kind("K", "a temperature difference", '"5 K", "5 delta_degC"', "K", "K"),
+    "volume": Kind("m**3", "a volume", '"50 L", "2.5 m3"', "L", "L"),
+    "mass": Kind("kg", "a mass", '"12 kg", "500 g"', "kg", "kg"),
+    "length": Kind("m", "a length", '"2 mm", "0.5 in"', "mm", "mm"),
+    "area": Kind("m**2", "an area", '"1.2 m2", "300 cm2"', "m**2", "m²"),
+    "time": Kind("s", "a time", '"30 s", "5 min", "2 h"', "s", "s"),
+    "mass_flow": Kind("kg/s", "a mass flow", '"0.01 kg/s", "2 kg/min"', "g/s", "g/s"),
+    "pressure_rate": Kind("Pa/s", "a pressure change rate", '"3 MPa/min", "0.5 bar/s"', "MPa/min", "MPa/min"),
+    "heat_transfer_coefficient": Kind("W/(m**2*K)", "a heat-transfer coefficient",
+                                      '"500 W/m2/K"', "W/(m**2*K)", "W/(m² K)"),
+    "specific_heat": Kind("J/(kg*K)", "a specific heat capacity", '"480 J/kg/K", "0.9 kJ/kg/K"',
+                          "J/(kg*K)", "J/(kg K)"),
+    "density": Kind("kg/m**3", "a density", '"0.75 kg/L", "180 kg/m3"', "kg/m**3", "kg/m³"),
+    "molar_volume": Kind("m**3/mol", "a molar or specific volume", '"1e-4 m3/mol", "0.005 m3/kg"',
+                         "L/mol", "L/mol", mass_si="m**3/kg"),
+    "molar_energy": Kind("J/mol", "a molar or specific energy (enthalpy, internal energy)",
+                         '"-1200 J/mol", "350 kJ/kg"', "J/mol", "J/mol", mass_si="J/kg"),
+    "molar_entropy": Kind("J/(mol*K)", "a molar or specific entropy", '"-20 J/mol/K", "4.5 kJ/kg/K"',
+                          "J/(mol*K)", "J/(mol K)", mass_si="J/(kg*K)"),
+    "dimensionless": Kind("", "a plain number", '"0.62"', "", ""),
+}
+
+_NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
+# a unit name directly followed by an exponent digit, as people write m2, m3, cm3
+_EXPONENT = re.compile(r"(?<![\w*^.])([A-Za-zµμ]+)([23])(?![\w.])")
+_GAUGE = re.compile(r"^(.*?)(?:\s*\(g\)|\s+gauge|\s*\(gauge\)|g)$", re.IGNORECASE)
+_ABSOLUTE = re.compile(r"^(.*?)(?:\s*\(a\)|\s+abs|\s+absolute|\s*\(abs\)|a)$", re.IGNORECASE)
+_TEMPERATURE_WORDS = {
+    "c": "degC", "°c": "degC", "ºc": "degC", "degc": "degC", "deg c": "degC", "celsius": "degC",
+    "f": "degF", "°f": "degF", "ºf": "degF", "degf": "degF", "deg f": "degF", "fahrenheit": "degF",
+    "k": "K", "kelvin": "K", "r": "degR", "°r": "degR", "degr": "degR", "rankine": "degR",
+}
+
+_REGISTRY = None
+
+
+def registry():
+    """The shared pint UnitRegistry (created on first use)."""
+    global _REGISTRY
+    if _REGISTRY is None:
+        import pint  # lazy: keeps `import eosfill` fast
+
+        _REGISTRY = pint.UnitRegistry()
+    return _REGISTRY
+
+
+def _tidy_unit(text: str) -> str:
+    """Unit text as people type it -> pint spelling (m2 -> m**2, ² -> **2)."""
+    text = text.strip().replace("²", "**2").replace("³", "**3").replace("·", "*")
+    return _EXPONENT.sub(r"\1**\2", text)
+
+
+def _fail(key_path, value, kind, why=""):
+    k = KINDS[kind]
+    message = f"{key_path} = {value!r}: expected {k.words} (e.g. {k.examples})"
+    if why:
+        message += f"; {why}"
+    return InputError(key_path, value, f"{k.words} (e.g. {k.examples})", message=message)
+
+
+def _units_or_none(ureg, text):
+    """pint Unit for ``text``, or None when pint does not know it."""
+    try:
+        return ureg.parse_units(text)
+    except Exception:  # pint raises several kinds (undefined unit, syntax)
+        return None
+
+
+def _dim_matches(ureg, unit, si):
+    return unit is not None and unit.dimensionality == ureg.parse_units(si).dimensionality
+
+
+def parse_quantity(text, kind, key_path, ambient_pressure=STANDARD_ATMOSPHERE, default_unit=None,
+                   molar_mass=None):
+    """Convert a value as written by a user to a float in SI units.
+
+    Parameters
+    ----------
+    text : str or int or float
+        The value with its unit (``"350 bar"``), or a bare number when
+        ``default_unit`` is given.
+    kind : str
+        One of :data:`KINDS` (``"pressure"``, ``"temperature"``, ``"volume"``...).
+    key_path : str
+        Where the value came from (``"vessel.volume"``, ``"--P"``); named in
+        the error message.
+    ambient_pressure : float
+        Pressure added to gauge pressures [Pa].
+    default_unit : str, optional
+        Unit of a bare number; without it a bare number is an error (except
+        for ``kind="dimensionless"``).
+    molar_mass : float, optional
+        [kg/mol]; lets the molar kinds also accept per-kilogram values.
+
+    Returns
+    -------
+    float
+        The value in the SI unit of ``kind`` (K, Pa, m³, kg, s, ...).
+
+    Raises
+    ------
+    InputError
+        Wrong dimension, unknown unit, missing unit, not a number.
+    """
+    if kind not in KINDS:
+        raise ValueError(f"unknown kind of quantity {kind!r}")
+    k = KINDS[kind]
+    if isinstance(text, bool):
+        raise _fail(key_path, text, kind, "a true/false value is not a quantity")
+    if isinstance(text, (int, float)):
+        number, unit_text = float(text), ""
+    elif isinstance(text, str):
+        m = _NUMBER.match(text)
+        if not m:
+            raise _fail(key_path, text, kind, "it does not start with a number")
+        number, unit_text = float(m.group(1)), m.group(2)
+    else:
+        raise _fail(key_path, text, kind, f"got a {type(text).__name__}")
+    if not math.isfinite(number):
+        raise _fail(key_path, text, kind, "not a finite number")
+    if kind == "dimensionless":
+        if unit_text:
+            raise _fail(key_path, text, kind, "no unit expected")
+        return number
+    if not unit_text:
+        if default_unit is None:
+            raise _fail(key_path, text, kind, "the unit is missing")
+        unit_text = default_unit
+
+    ureg = registry()
+    gauge = False
+    if kind == "temperature":
+        unit_text = _TEMPERATURE_WORDS.get(" ".join(unit_text.lower().split()), unit_text)
+    tidy = _tidy_unit(unit_text)
+    unit = _units_or_none(ureg, tidy)
+    if kind == "pressure" and not _dim_matches(ureg, unit, k.si):
+        for pattern, is_gauge in ((_GAUGE, True), (_ABSOLUTE, False)):
+            m = pattern.match(unit_text.strip())
+            if m and m.group(1).strip():
+                base = _units_or_none(ureg, _tidy_unit(m.group(1)))
+                if _dim_matches(ureg, base, k.si):
+                    unit, gauge = base, is_gauge
+                    break
+    if unit is None:
+        raise _fail(key_path, text, kind, f"unknown unit {unit_text!r}")
+    target = k.si
+    per_mass = False
+    if not _dim_matches(ureg, unit, k.si):
+        if k.mass_si and _dim_matches(ureg, unit, k.mass_si):
+            if molar_mass is None:
+                raise _fail(key_path, text, kind, "a per-kilogram value needs the fluid's molar mass")
+            target, per_mass = k.mass_si, True
+        else:
+            raise _fail(key_path, text, kind, f"{unit_text!r} is {_dimension_words(unit)}")
+    try:
+        value = ureg.Quantity(number, unit).to(target).magnitude
+    except Exception as exc:  # offset-unit arithmetic and the like
+        raise _fail(key_path, text, kind, str(exc)) from None
+    value = float(value)
+    if per_mass:
+        value *= molar_mass
+    if gauge:
+        value += float(ambient_pressure)
+    return value
+
+
+def _dimension_words(unit) -> str:
+    dims = str(unit.dimensionality)
+    for name, kind in KINDS.items():
+        if kind.si and registry().parse_units(kind.si).dimensionality == unit.dimensionality:
+            return kind.words
+    return f"of dimension {dims}"
+
+
+def is_gauge(text) -> bool:
+    """True when a pressure is written as gauge (``barg``, ``psig``, ``bar(g)``...)."""
+    if not isinstance(text, str):
+        return False
+    m = _NUMBER.match(text)
+    if not m or not m.group(2):
+        return False
+    unit_text = m.group(2)
+    ureg = registry()
+    if _dim_matches(ureg, _units_or_none(ureg, _tidy_unit(unit_text)), "Pa"):
+        return False
+    g = _GAUGE.match(unit_text)
+    return bool(g and g.group(1).strip()
+                and _dim_matches(ureg, _units_or_none(ureg, _tidy_unit(g.group(1))), "Pa"))
+
+
+# --------------------------------------------------------------------------
+# printing SI values in an engineer's units
+# --------------------------------------------------------------------------
+def convert(value, kind, unit=None):
+    """An SI value of ``kind`` expressed in ``unit`` (default: the engineer's unit)."""
+    k = KINDS[kind]
+    unit = k.display if unit is None else _tidy_unit(unit)
+    if kind == "dimensionless" or unit == k.si:
+        return float(value)
+    ureg = registry()
+    return float(ureg.Quantity(float(value), k.si).to(unit).magnitude)
+
+
+def unit_label(kind, unit=None) -> str:
+    """How the unit is printed (``°C``, ``bar``, ``L``...)."""
+    k = KINDS[kind]
+    if unit is None:
+        return k.label
+    return {"degC": "°C", "degF": "°F", "m**3": "m³", "m**2": "m²"}.get(unit, unit)
+
+
+def format_number(value, digits=6) -> str:
+    """``value`` with ``digits`` significant digits, no trailing zeros."""
+    value = float(value)
+    if not math.isfinite(value):
+        return str(value)
+    if value == 0.0:
+        return "0"
+    text = f"{value:.{digits}g}"
+    if "e" in text:
+        mant, exp = text.split("e")
+        return f"{mant}e{int(exp)}"
+    return text
+
+
+def format_quantity(value, kind, unit=None, digits=6) -> str:
+    """An SI value printed in an engineer's unit: ``format_quantity(35e6, "pressure")`` -> ``'350 bar'``.
+
+    Default units: pressure bar, temperature °C, volume L, mass kg, length mm,
+    time s, mass flow g/s, pressure rate MPa/min.
+    """
+    label = unit_label(kind, unit)
+    number = format_number(convert(value, kind, unit), digits)
+    return f"{number} {label}".rstrip()
