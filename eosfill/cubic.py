@@ -211,11 +211,12 @@ def soave_sqrt_alpha(T, Tc, kappa):
 
     Returns s, ds/dT [1/K], d²s/dT² [1/K²], each of shape (..., nc).
     """
-    T = np.asarray(T, dtype=float)[..., None]
-    sqrtTTc = np.sqrt(T * Tc)
-    s = 1.0 + kappa * (1.0 - np.sqrt(T / Tc))
-    ds = -kappa / (2.0 * sqrtTTc)
-    d2s = kappa / (4.0 * T * sqrtTTc)
+    T = np.asarray(T, dtype=float)
+    sqrtT = np.sqrt(T)[..., None]
+    sqrtTc = np.sqrt(Tc)
+    s = 1.0 + kappa * (1.0 - sqrtT / sqrtTc)
+    ds = (-0.5 * kappa / sqrtTc) / sqrtT       # -κ / (2 √(T Tc))
+    d2s = ds * (-0.5 / T[..., None])           # κ / (4 T √(T Tc))
     return s, ds, d2s
 
 
@@ -249,6 +250,8 @@ def mixture_a(T, x, p: MixtureParameters, derivatives=2):
     a, a_T, a_TT : ndarray, shape (...)
         [Pa m⁶/mol²], [Pa m⁶/(mol² K)], [Pa m⁶/(mol² K²)] (those asked for).
     """
+    if np.ndim(x) == 1:
+        return _mixture_a_fixed_x(T, x, p, derivatives)
     s, ds, d2s = soave_sqrt_alpha(T, p.Tc, p.kappa)
     sac = np.sqrt(p.ac)
     M = 1.0 - p.kij
@@ -265,6 +268,52 @@ def mixture_a(T, x, p: MixtureParameters, derivatives=2):
     a_TT = 2.0 * (np.einsum("...i,...i->...", xq2, Mxq)
                   + np.einsum("...i,...i->...", xq1, xq1 @ M))
     return a, a_T, a_TT
+
+
+def _mixture_a_fixed_x(T, x, p: MixtureParameters, derivatives=2):
+    """(C4) for one fixed composition, as a quadratic in t = √T.
+
+    Soave's √α_i = 1 + κ_i (1 - √(T/Tc,i)) = λ_i - μ_i t with
+    λ_i = 1 + κ_i, μ_i = κ_i/√Tc,i.  With C_ij = x_i x_j (1 - k_ij) √(a_c,i a_c,j):
+
+        a(T)  = Σ_ij C_ij (λ_i - μ_i t)(λ_j - μ_j t) = c0 - 2 c1 t + c2 t²
+        c0 = λᵀCλ,  c1 = λᵀCμ,  c2 = μᵀCμ
+        a_T   = (c2 - c1/t)                 (da/dT = da/dt / (2t))
+        a_TT  = c1 / (2 t³)
+
+    The same numbers as the general form in :func:`mixture_a` (which stays
+    as the readable oracle; a test compares the two), in O(1) per state.
+    """
+    c0, c1, c2 = _quadratic_a_coefficients(p, tuple(np.asarray(x, dtype=float)))
+    T = np.asarray(T, dtype=float)
+    t = np.sqrt(T)
+    a = c0 + t * (c2 * t - 2.0 * c1)
+    if derivatives == 0:
+        return (a,)
+    a_T = c2 - c1 / t
+    if derivatives == 1:
+        return a, a_T
+    return a, a_T, c1 / (2.0 * t * T)
+
+
+_QUAD_CACHE: dict = {}
+
+
+def _quadratic_a_coefficients(p: MixtureParameters, x_key: tuple):
+    key = (id(p), x_key)
+    hit = _QUAD_CACHE.get(key)
+    if hit is not None and hit[0] is p:
+        return hit[1]
+    x = np.array(x_key)
+    sac = np.sqrt(p.ac)
+    C = np.outer(x * sac, x * sac) * (1.0 - p.kij)
+    lam = 1.0 + p.kappa
+    mu = p.kappa / np.sqrt(p.Tc)
+    coeffs = (float(lam @ C @ lam), float(lam @ C @ mu), float(mu @ C @ mu))
+    if len(_QUAD_CACHE) > 256:
+        _QUAD_CACHE.clear()
+    _QUAD_CACHE[key] = (p, coeffs)
+    return coeffs
 
 
 def mixture_a_partial(T, x, p: MixtureParameters):
@@ -315,33 +364,42 @@ def cubic_roots(c2, c1, c0, polish=3):
         (the one-real-root case fills slot 0 and leaves 1, 2 NaN).
     """
     c2, c1, c0 = np.broadcast_arrays(*(np.asarray(c, dtype=float) for c in (c2, c1, c0)))
-    Q = (c2**2 - 3.0 * c1) / 9.0
+    Q = (c2 * c2 - 3.0 * c1) / 9.0
     Rr = (2.0 * c2**3 - 9.0 * c2 * c1 + 27.0 * c0) / 54.0
     Q3 = Q**3
-    three = Rr**2 < Q3
+    three = Rr * Rr < Q3
     roots = np.full(c2.shape + (3,), np.nan)
-    # three real roots: Z_k = -2 √Q cos((θ + 2πk)/3) - c2/3
+    # one real root (Cardano): Z = A + Q/A - c2/3, A = -sgn(R) (|R| + √(R² - Q³))^(1/3)
     with np.errstate(invalid="ignore", divide="ignore"):
-        sqQ = np.sqrt(np.where(three, Q, 1.0))
-        cos_arg = np.clip(np.where(three, Rr / np.sqrt(np.where(three, Q3, 1.0)), 0.0), -1.0, 1.0)
-        theta = np.arccos(cos_arg)
-        k = np.array([0.0, 1.0, 2.0])
-        trig = -2.0 * sqQ[..., None] * np.cos((theta[..., None] + 2.0 * np.pi * k) / 3.0) - c2[..., None] / 3.0
-        # one real root: Cardano
-        Aq = -np.sign(Rr) * np.cbrt(np.abs(Rr) + np.sqrt(np.maximum(Rr**2 - Q3, 0.0)))
-        Bq = np.where(Aq != 0.0, Q / np.where(Aq != 0.0, Aq, 1.0), 0.0)
-        one = Aq + Bq - c2 / 3.0
-    roots[three] = trig[three]
-    roots[..., 0] = np.where(three, roots[..., 0], one)
-    # Newton polish on f(Z) = Z³ + c2 Z² + c1 Z + c0
-    for _ in range(polish):
-        Z = roots
-        f = ((Z + c2[..., None]) * Z + c1[..., None]) * Z + c0[..., None]
-        df = (3.0 * Z + 2.0 * c2[..., None]) * Z + c1[..., None]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            step = np.where(np.abs(df) > 1e-300, f / df, 0.0)
-        roots = np.where(np.isfinite(step), Z - step, Z)
-    return np.sort(roots, axis=-1)  # NaN sort last
+        Aq = -np.sign(Rr) * np.cbrt(np.abs(Rr) + np.sqrt(np.maximum(Rr * Rr - Q3, 0.0)))
+        roots[..., 0] = Aq + np.where(Aq != 0.0, Q / Aq, 0.0) - c2 / 3.0
+    if np.any(three):
+        # three real roots: Z_k = -2 √Q cos((θ + 2πk)/3) - c2/3, θ = acos(R/√Q³);
+        # k = 0, 2, 1 give them in ascending order
+        q, r, c = Q[three], Rr[three], c2[three]
+        theta = np.arccos(np.clip(r / np.sqrt(q**3), -1.0, 1.0))
+        m = -2.0 * np.sqrt(q)
+        roots[three] = np.stack([m * np.cos(theta / 3.0) - c / 3.0,
+                                 m * np.cos((theta + 4.0 * np.pi) / 3.0) - c / 3.0,
+                                 m * np.cos((theta + 2.0 * np.pi) / 3.0) - c / 3.0], axis=-1)
+    # Newton polish on f(Z) = Z³ + c2 Z² + c1 Z + c0 (only on real roots)
+    roots[..., 0] = _newton_polish(roots[..., 0], c2, c1, c0, polish)
+    if np.any(three):
+        sub = roots[three]
+        for k in (1, 2):
+            sub[:, k] = _newton_polish(sub[:, k], c2[three], c1[three], c0[three], polish)
+        roots[three] = np.sort(sub, axis=-1)
+    return roots
+
+
+def _newton_polish(Z, c2, c1, c0, n):
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for _ in range(n):
+            f = ((Z + c2) * Z + c1) * Z + c0
+            df = (3.0 * Z + 2.0 * c2) * Z + c1
+            step = f / df
+            Z = np.where(np.isfinite(step), Z - step, Z)
+    return Z
 
 
 def log_term(Z, B, delta1, delta2):
@@ -359,31 +417,36 @@ def choose_root(roots, A, B, delta1, delta2):
 
     At fixed T, P and composition the Gibbs energy differs between roots
     only through G^R, so the root of lowest G^R/(RT) (C6) is the stable one
-    of the two (or only) candidates.
+    of the two (or only) candidates; the middle root of three is never
+    stable.  ``roots`` must be ascending with NaN last (as from
+    :func:`cubic_roots`).
 
     Returns
     -------
     Z : ndarray, shape (...)
-        The chosen root.
+        The chosen root (NaN if no root exceeds B).
     choice : ndarray of int8, shape (...)
         0: only one admissible root; 1: smallest (liquid-like) root of
         several had the lowest Gibbs energy; 2: largest (vapour-like) root
         of several had the lowest Gibbs energy.
     """
-    A = np.asarray(A)[..., None]
-    B = np.asarray(B)[..., None]
-    valid = np.isfinite(roots) & (roots > B)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        g = np.where(valid, residual_g_RT(np.where(valid, roots, 1.0), A, B, delta1, delta2), np.inf)
-    # the middle root of three is never stable; candidates are min and max valid
-    lo = np.where(valid, roots, np.inf).min(axis=-1)
-    hi = np.where(valid, roots, -np.inf).max(axis=-1)
-    g_lo = np.where(valid & (roots == lo[..., None]), g, np.inf).min(axis=-1)
-    g_hi = np.where(valid & (roots == hi[..., None]), g, np.inf).min(axis=-1)
-    pick_lo = g_lo < g_hi
-    Z = np.where(pick_lo, lo, hi)
-    several = lo < hi
-    choice = np.where(several, np.where(pick_lo, 1, 2), 0).astype(np.int8)
+    A = np.asarray(A, dtype=float)
+    B = np.asarray(B, dtype=float)
+    r0, r1, r2 = roots[..., 0], roots[..., 1], roots[..., 2]
+    three = np.isfinite(r2)
+    # smallest admissible root and largest one
+    lo = np.where(r0 > B, r0, np.where(three & (r1 > B), r1, np.where(three, r2, np.nan)))
+    hi = np.where(three, r2, np.where(r0 > B, r0, np.nan))
+    several = three & (lo < hi)
+    Z = hi.copy()
+    choice = np.zeros(np.shape(Z), dtype=np.int8)
+    if np.any(several):
+        Ab, Bb = np.broadcast_to(A, Z.shape)[several], np.broadcast_to(B, Z.shape)[several]
+        g_lo = residual_g_RT(lo[several], Ab, Bb, delta1, delta2)
+        g_hi = residual_g_RT(hi[several], Ab, Bb, delta1, delta2)
+        pick_lo = g_lo < g_hi
+        Z[several] = np.where(pick_lo, lo[several], hi[several])
+        choice[several] = np.where(pick_lo, 1, 2)
     return Z, choice
 
 

@@ -78,9 +78,17 @@ def int_cp0_R_over_T(T, a, Tref=T0):
     return a[:, 0] * np.log(T / Tref) + poly
 
 
+def _inside(T, Tmin, Tmax):
+    """True if every T lies inside every component's range (no clipping needed)."""
+    if T.size == 0:
+        return True
+    return bool(np.min(T) >= np.max(Tmin) and np.max(T) <= np.min(Tmax))
+
+
 def cp0_R_ext(T, a, Tmin, Tmax):
     """Cp°/R per component, held constant outside [Tmin, Tmax]."""
-    Tc = np.clip(np.asarray(T, dtype=float)[..., None], Tmin, Tmax)
+    T = np.asarray(T, dtype=float)
+    Tc = T[..., None] if _inside(T, Tmin, Tmax) else np.clip(T[..., None], Tmin, Tmax)
     return a[:, 0] + Tc * (a[:, 1] + Tc * (a[:, 2] + Tc * (a[:, 3] + Tc * a[:, 4])))
 
 
@@ -91,6 +99,8 @@ def h0_R_ext(T, a, Tmin, Tmax, Tref=T0):
     (Tref = 298.15 K lies inside every range of the data.)
     """
     T = np.asarray(T, dtype=float)
+    if _inside(T, Tmin, Tmax):
+        return _int_cp0_R_pc(T[..., None], a, Tref)
     Tcl = np.clip(T[..., None], Tmin, Tmax)
     inner = _int_cp0_R_pc(Tcl, a, Tref)
     return inner + cp0_R_ext(T, a, Tmin, Tmax) * (T[..., None] - Tcl)
@@ -102,21 +112,33 @@ def s0T_R_ext(T, a, Tmin, Tmax, Tref=T0):
     = S(Tc) + Cp°(Tc)/R · ln(T/Tc),  Tc = clip(T, Tmin, Tmax).
     """
     T = np.asarray(T, dtype=float)
+    if _inside(T, Tmin, Tmax):
+        return _int_cp0_R_over_T_pc(T[..., None], a, Tref)
     Tcl = np.clip(T[..., None], Tmin, Tmax)
     inner = _int_cp0_R_over_T_pc(Tcl, a, Tref)
     return inner + cp0_R_ext(T, a, Tmin, Tmax) * np.log(T[..., None] / Tcl)
 
 
 def _int_cp0_R_pc(Tpc, a, Tref):
-    """∫ Cp°/R dT from Tref to a per-component temperature Tpc (..., nc)."""
-    powers = np.arange(1.0, 6.0)
-    return (a * ((Tpc[..., None] ** powers - Tref ** powers) / powers)).sum(axis=-1)
+    """∫ Cp°/R dT from Tref to a per-component temperature Tpc (..., nc).
+
+    Horner form of Σ_k a_k T^(k+1)/(k+1) minus its value at Tref."""
+    c = a / np.arange(1.0, 6.0)
+
+    def F(T):
+        return T * (c[:, 0] + T * (c[:, 1] + T * (c[:, 2] + T * (c[:, 3] + T * c[:, 4]))))
+
+    return F(Tpc) - F(Tref)
 
 
 def _int_cp0_R_over_T_pc(Tpc, a, Tref):
-    k = np.arange(1.0, 5.0)
-    poly = (a[:, 1:] * ((Tpc[..., None] ** k - Tref ** k) / k)).sum(axis=-1)
-    return a[:, 0] * np.log(Tpc / Tref) + poly
+    """∫ Cp°/(R T) dT from Tref to Tpc: a0 ln(T/Tref) + Σ_{k≥1} a_k (T^k - Tref^k)/k (Horner)."""
+    c = a[:, 1:] / np.arange(1.0, 5.0)
+
+    def F(T):
+        return T * (c[:, 0] + T * (c[:, 1] + T * (c[:, 2] + T * c[:, 3])))
+
+    return a[:, 0] * np.log(Tpc / Tref) + F(Tpc) - F(Tref)
 
 
 def check_range(T, Tmin, Tmax, names, present=None):
@@ -149,8 +171,23 @@ def check_range(T, Tmin, Tmax, names, present=None):
             )
 
 
+def _fixed_x_inside(T, x, Tmin, Tmax):
+    """One composition and every T inside every present component's range:
+    the mixture is then one polynomial with coefficients Σ x_i a_i,k."""
+    if np.ndim(x) != 1:
+        return False
+    present = np.asarray(x) > 0.0
+    T = np.asarray(T, dtype=float)
+    lo = np.max(np.broadcast_to(Tmin, present.shape)[present])
+    hi = np.min(np.broadcast_to(Tmax, present.shape)[present])
+    return T.size == 0 or bool(np.min(T) >= lo and np.max(T) <= hi)
+
+
 def mixture_h0(T, x, a, Tmin=-np.inf, Tmax=np.inf):
     """Ideal-gas molar enthalpy of a mixture [J/mol]: Σ x_i H°_i(T)."""
+    if _fixed_x_inside(T, x, Tmin, Tmax):
+        am = np.asarray(x) @ a
+        return R * _int_cp0_R_pc(np.asarray(T, dtype=float)[..., None], am[None, :], T0)[..., 0]
     return R * np.einsum("...i,...i->...", x, h0_R_ext(T, a, Tmin, Tmax))
 
 
@@ -161,10 +198,18 @@ def mixture_s0(T, P, x, a, Tmin=-np.inf, Tmax=np.inf):
     """
     x = np.asarray(x, dtype=float)
     xlnx = np.where(x > 0.0, x * np.log(np.where(x > 0.0, x, 1.0)), 0.0).sum(axis=-1)
-    s_T = np.einsum("...i,...i->...", x, s0T_R_ext(T, a, Tmin, Tmax))
+    if _fixed_x_inside(T, x, Tmin, Tmax):
+        am = x @ a
+        s_T = _int_cp0_R_over_T_pc(np.asarray(T, dtype=float)[..., None], am[None, :], T0)[..., 0]
+    else:
+        s_T = np.einsum("...i,...i->...", x, s0T_R_ext(T, a, Tmin, Tmax))
     return R * (s_T - np.log(np.asarray(P, dtype=float) / P0) - xlnx)
 
 
 def mixture_cp0(T, x, a, Tmin=-np.inf, Tmax=np.inf):
     """Ideal-gas molar isobaric heat capacity of a mixture [J/(mol K)]."""
+    if _fixed_x_inside(T, x, Tmin, Tmax):
+        am = np.asarray(x) @ a
+        T = np.asarray(T, dtype=float)
+        return R * (am[0] + T * (am[1] + T * (am[2] + T * (am[3] + T * am[4]))))
     return R * np.einsum("...i,...i->...", x, cp0_R_ext(T, a, Tmin, Tmax))

@@ -217,14 +217,14 @@ def test_enthalpy_and_entropy_temperature_derivatives(model, T, logP):
     # consistency: Cp = (dh/dT)_P and Cp/T = (ds/dT)_P, from h and s of the State
     fluid = eosfill.Fluid(NATGAS, model=model)
     P = 10.0**logP
-    dT = 1e-4 * T  # small: Cp is sharply peaked near the pseudo-critical line
+    dT = 2e-5 * T  # small: Cp is sharply peaked near the pseudo-critical line (741 J/(mol K) at 200 K, 4.5 MPa)
     Ts = T + dT * np.array([-2.0, -1.0, 1.0, 2.0])
     base = fluid.single_phase(T, P)
     # stay on the same root of the cubic across the stencil
     s_ = fluid.single_phase(Ts, P, which=_which(base))
     w = np.array([1.0, -8.0, 8.0, -1.0]) / (12.0 * dT)
-    assert w @ s_.h == pytest.approx(base.cp, rel=1e-6)
-    assert w @ s_.s == pytest.approx(base.cp / T, rel=1e-6)
+    assert w @ s_.h == pytest.approx(base.cp, rel=2e-6)
+    assert w @ s_.s == pytest.approx(base.cp / T, rel=2e-6)
 
 
 @pytest.mark.parametrize("model", MODELS)
