@@ -207,6 +207,37 @@ def _solve_fixed_v(fluid: Fluid, v, key, target):
     return _assemble_pure(fluid, T, st)
 
 
+def _pure_fixed_v_scalar(fluid: Fluid, v, key, target):
+    """One pure-fluid state at fixed v by the scalar kernel (:mod:`eosfill.scalar`).
+
+    Valid when the single-phase solution lies clearly outside the
+    saturation dome (then it is the stable state: for a pure fluid every
+    (T, v) outside the dome is stable); otherwise returns None and the
+    vectorised path decides."""
+    from . import scalar
+
+    b = float(fluid.params.b[0]) - fluid.volume_shift[0]
+    if not v > b:
+        return None
+    k = scalar.fixed_composition(fluid)
+    Tlo, Thi = _T_bounds(fluid)
+    try:
+        T = k.T_at_v(key, target, v, T_guess=max(float(fluid.Tc[0]), 300.0), T_lo=Tlo, T_hi=Thi)
+    except ConvergenceError:
+        return None
+    if T <= Tlo * (1 + 1e-9) or T >= Thi * (1 - 1e-9):
+        return None
+    P = k.props_Tv(T, v)[0]
+    if not P > 0.0:
+        return None
+    if T < float(fluid.Tc[0]) and scalar.saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):
+        return None
+    st = fluid.single_phase(np.array([T]), np.array([P]))
+    if abs(st._v[0] - v) > 1e-9 * v:  # lowest-Gibbs root is not this volume: let the general path decide
+        return None
+    return st
+
+
 def _assemble_pure(fluid: Fluid, T, st):
     """Build the State of a pure fluid from (T, P, split) arrays."""
     P = st["P"]
@@ -758,6 +789,10 @@ def _dispatch(fluid, keys, a):
     if "v" in keys:
         (key,) = keys - {"v"}
         if pure:
+            if a["v"].size == 1:
+                st = _pure_fixed_v_scalar(fluid, float(a["v"][0]), key, float(a[key][0]))
+                if st is not None:
+                    return st
             return _solve_fixed_v(fluid, a["v"], key, a[key])
         return _mixture_fixed_v(fluid, a["v"], key, a[key])
     if keys == {"T", "s"}:

@@ -1,0 +1,214 @@
+"""Hand-optimised single-state kernels for one fixed composition.
+
+The vectorised kernels (:mod:`eosfill.cubic`, :mod:`eosfill.idealgas`,
+:func:`eosfill.states.props_Tv`) are the readable forms and stay the
+oracles; this module evaluates the same equations for *one* state in plain
+Python floats, where numpy's per-call cost would dominate (time-resolved
+integration, scalar solver calls).  ``tests/test_scalar.py`` checks every
+function here against its vectorised form to round-off.
+
+For one composition x the model collapses to a handful of numbers:
+
+* (C4) with Soave's α is a quadratic in t = √T (see
+  :func:`eosfill.cubic._mixture_a_fixed_x`): a = c0 - 2 c1 t + c2 t²;
+* b = Σ x_i b_i; the volume shift c = Σ x_i c_i;
+* the ideal-gas mixture is one Poling polynomial with coefficients
+  Σ x_i a_i,k while T lies inside every present component's range
+  (outside, Cp° of each component is held at its end value, as in
+  :mod:`eosfill.idealgas`; that case is delegated to the vectorised code).
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from . import cubic, idealgas
+from .constants import P0, R, T0
+from .errors import ConvergenceError, InputError
+
+
+class FixedComposition:
+    """Scalar property kernels of a fluid at one composition.
+
+    Parameters
+    ----------
+    fluid : eosfill.Fluid
+    x : array_like, optional
+        Mole fractions (default: the fluid's own).
+    """
+
+    def __init__(self, fluid, x=None):
+        x = fluid.mole_fractions if x is None else np.asarray(x, dtype=float)
+        p = fluid.params
+        self.fluid = fluid
+        self.x = x
+        self.c0, self.c1, self.c2 = cubic._quadratic_a_coefficients(p, tuple(x))
+        self.b = float(x @ p.b)
+        self.shift = float(x @ fluid.volume_shift)
+        self.d1, self.d2 = p.model.delta1, p.model.delta2
+        present = x > 0.0
+        self.Tlo = float(np.max(fluid.cp_Tmin[present]))
+        self.Thi = float(np.min(fluid.cp_Tmax[present]))
+        am = x @ fluid.cp_coeffs
+        self.am = [float(v) for v in am]
+        self.xlnx = float(sum(v * math.log(v) for v in x if v > 0.0))
+        self.H0ref = self._F(T0)
+        self.S0ref = self._G(T0)
+
+    # ideal-gas polynomial pieces (Poling form, Horner)
+    def _F(self, T):
+        a0, a1, a2, a3, a4 = self.am
+        return T * (a0 + T * (a1 / 2.0 + T * (a2 / 3.0 + T * (a3 / 4.0 + T * a4 / 5.0))))
+
+    def _G(self, T):
+        a0, a1, a2, a3, a4 = self.am
+        return a0 * math.log(T) + T * (a1 + T * (a2 / 2.0 + T * (a3 / 3.0 + T * a4 / 4.0)))
+
+    def _cp0_R(self, T):
+        a0, a1, a2, a3, a4 = self.am
+        return a0 + T * (a1 + T * (a2 + T * (a3 + T * a4)))
+
+    def _ideal(self, T):
+        """H°/R - ..., S°(T, P0)/R (with mixing term), Cp°/R at T."""
+        if self.Tlo <= T <= self.Thi:
+            return self._F(T) - self.H0ref, self._G(T) - self.S0ref - self.xlnx, self._cp0_R(T)
+        f = self.fluid
+        Ta = np.array([T])
+        h0 = float(idealgas.mixture_h0(Ta, self.x, f.cp_coeffs, f.cp_Tmin, f.cp_Tmax)[0]) / R
+        s0 = float(idealgas.mixture_s0(Ta, P0, self.x, f.cp_coeffs, f.cp_Tmin, f.cp_Tmax)[0]) / R
+        cp0 = float(idealgas.mixture_cp0(Ta, self.x, f.cp_coeffs, f.cp_Tmin, f.cp_Tmax)[0]) / R
+        return h0, s0, cp0
+
+    def props_Tv(self, T, v):
+        """Single-phase P, u, h, s, cv, (∂P/∂T)_v, (∂P/∂v)_T at (T [K], v [m³/mol]).
+
+        Same equations as :func:`eosfill.states.props_Tv` ((C1), (C8), (C9),
+        (C11) of :mod:`eosfill.cubic`), v being the (shifted) molar volume.
+        """
+        b, d1, d2 = self.b, self.d1, self.d2
+        ve = v + self.shift
+        t = math.sqrt(T)
+        a = self.c0 + t * (self.c2 * t - 2.0 * self.c1)
+        a_T = self.c2 - self.c1 / t
+        a_TT = self.c1 / (2.0 * t * T)
+        D = (ve + d1 * b) * (ve + d2 * b)
+        L = math.log((ve + d1 * b) / (ve + d2 * b)) / (d1 - d2)
+        P = R * T / (ve - b) - a / D
+        h0, s0, cp0 = self._ideal(T)
+        u = R * (h0 - T) + (T * a_T - a) / b * L
+        s = R * s0 - R * math.log(R * T / ((ve - b) * P0)) + a_T / b * L
+        cv = R * (cp0 - 1.0) + T * a_TT / b * L
+        dPdT = R / (ve - b) - a_T / D
+        dPdv = -R * T / (ve - b) ** 2 + a * (2.0 * ve + (d1 + d2) * b) / D**2
+        return P, u, u + P * v, s, cv, dPdT, dPdv
+
+    def T_at_v(self, key, target, v, T_guess, T_lo, T_hi, tol=1e-12, maxiter=100):
+        """Single-phase T at fixed v with prop(T, v) = target, prop in (u, h, s).
+
+        Newton steps with the analytic derivative at fixed v
+        (du/dT = cv, dh/dT = cv + v (∂P/∂T)_v, ds/dT = cv/T), kept inside a
+        bracket [T_lo, T_hi] that shrinks with every evaluation (bisection
+        when Newton leaves it).  Stops when |step| < tol·T.
+        """
+        k = {"u": 1, "h": 2, "s": 3}[key]
+        lo, hi = T_lo, T_hi
+        T = min(max(T_guess, lo), hi)
+        for _ in range(maxiter):
+            P, u, h, s, cv, dPdT, dPdv = self.props_Tv(T, v)
+            f = (u, h, s)[k - 1] - target
+            df = (cv, cv + v * dPdT, cv / T)[k - 1]
+            if f > 0.0:
+                hi = T
+            else:
+                lo = T
+            if df > 0.0:
+                Tn = T - f / df
+                if abs(Tn - T) <= tol * T:
+                    return Tn
+            else:
+                Tn = 0.5 * (lo + hi)
+            if not (lo < Tn < hi):
+                Tn = 0.5 * (lo + hi)
+            T = Tn
+        raise ConvergenceError(f"{key}-v scalar solve", "no convergence", dict(T=T, v=v), f)
+
+    def v_at_TP(self, T, P, v_guess):
+        """Molar volume at (T, P) by Newton on P(v) from a guess on the
+        wanted branch (no root selection; used to follow one phase)."""
+        v = v_guess
+        for _ in range(50):
+            Pv, _, _, _, _, _, dPdv = self.props_Tv(T, v)
+            if dPdv >= 0.0:
+                raise ConvergenceError("v_at_TP", "left the mechanically stable branch", dict(T=T, v=v))
+            dv = (Pv - P) / dPdv
+            vn = v - dv
+            if vn <= self.b - self.shift:
+                vn = 0.5 * (v + self.b - self.shift)
+            if abs(vn - v) <= 1e-13 * v:
+                return vn
+            v = vn
+        raise ConvergenceError("v_at_TP", "no convergence", dict(T=T, P=P, v=v))
+
+
+class SaturationCurve:
+    """A pure fluid's saturation curve tabulated once (vectorised equal-fugacity
+    solve of :func:`eosfill.equilibrium.saturation_pressure`) on a grid in
+    τ = √(1 - T/Tc), used to classify (T, v) quickly: clearly outside the dome
+    (by a 2 % margin on ln v) is single phase; otherwise the caller solves the
+    saturation exactly at T."""
+
+    def __init__(self, fluid, n=240):
+        from .equilibrium import saturation_pressure
+
+        if not fluid.is_pure:
+            raise InputError("fluid", fluid.names, "a pure fluid")
+        Tc = float(fluid.Tc[0])
+        tau = np.linspace(1e-3, np.sqrt(1.0 - 0.4), n)
+        T = Tc * (1.0 - tau**2)
+        sat = saturation_pressure(T, fluid.params, raise_on_fail=False)
+        ok = sat["status"] == 0
+        c = fluid.volume_shift[0]
+        self.Tc = Tc
+        self.Tmin = float(T[ok].min())
+        self.tau = tau[ok]
+        self.lnvL = np.log(sat["v_L"][ok] - c)
+        self.lnvV = np.log(sat["v_V"][ok] - c)
+
+    def classify(self, T, v, margin=0.02):
+        """'gas-side', 'liquid-side' (clearly single phase) or 'near' the dome."""
+        if T >= self.Tc or T < self.Tmin:
+            return "outside"
+        tau = math.sqrt(1.0 - T / self.Tc)
+        lv = math.log(v)
+        lvL = float(np.interp(tau, self.tau, self.lnvL))
+        lvV = float(np.interp(tau, self.tau, self.lnvV))
+        if lv > lvV + margin:
+            return "gas-side"
+        if lv < lvL - margin:
+            return "liquid-side"
+        return "near"
+
+
+_SAT_CACHE: dict = {}
+
+
+def saturation_curve(fluid) -> SaturationCurve:
+    """The cached :class:`SaturationCurve` of a pure fluid (one per Fluid object)."""
+    key = (id(fluid.params), float(fluid.volume_shift[0]))
+    hit = _SAT_CACHE.get(key)
+    if hit is None or hit[0] is not fluid.params:
+        if len(_SAT_CACHE) > 64:
+            _SAT_CACHE.clear()
+        hit = (fluid.params, SaturationCurve(fluid))  # params held: its id is not reused
+        _SAT_CACHE[key] = hit
+    return hit[1]
+
+
+def fixed_composition(fluid) -> FixedComposition:
+    """The fluid's own :class:`FixedComposition`, built once and kept on it."""
+    k = fluid.__dict__.get("_scalar_kernel")
+    if k is None or k.x is not fluid.mole_fractions:
+        k = FixedComposition(fluid)
+        fluid.__dict__["_scalar_kernel"] = k
+    return k
