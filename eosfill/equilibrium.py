@@ -563,8 +563,66 @@ def _saturation_point(T, P, z, p, kind, solve_for, tol=1e-10, maxiter=200):
             var = brentq(wil, 10.0, 5000.0)
         except ValueError:
             var = float(z @ p.Tc)
-    lnK = wilson_lnK(T if solve_for == "P" else var, np.exp(var) if solve_for == "P" else P,
-                     p.Tc, p.Pc, p.omega)
+    # starting points: Wilson's estimate, then lower pressures (or other
+    # temperatures) when a start runs into the trivial solution K = 1
+    if solve_for == "P":
+        starts = [var - 0.7 * k for k in range(5)]
+    else:
+        starts = [var * f for f in (1.0, 0.92, 1.08, 0.85, 1.15)]
+    last = None
+    for var0 in starts:
+        try:
+            return _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter)
+        except ConvergenceError as exc:
+            last = exc
+    # near a critical point successive substitution falls into K = 1 from every
+    # start: locate the phase boundary with the flash instead (the vapour
+    # fraction reaches 0 at a bubble point, 1 at a dew point), then polish
+    # from the flash's K-values
+    try:
+        var0, lnK0 = _boundary_by_flash(T, P, z, p, kind, solve_for)
+        return _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter, lnK0)
+    except ConvergenceError:
+        raise last from None
+
+
+def _boundary_by_flash(T, P, z, p, kind, solve_for, n=48):
+    """Bracket the bubble (β → 0) or dew (β → 1) boundary on a grid of TP
+    flashes and narrow it by bisection; returns the outer variable and ln K
+    just inside the two-phase region."""
+    if solve_for == "P":
+        grid = np.linspace(np.log(1e3), np.log(5.0 * float(p.Pc.max())), n)
+        TT, PP = np.full(n, T), np.exp(grid)
+    else:
+        grid = np.linspace(0.3 * float(p.Tc.min()), 1.6 * float(p.Tc.max()), n)
+        TT, PP = grid, np.full(n, P)
+    fl = flash_TP(TT, PP, z, p, raise_on_fail=False, maxiter=60, second_order=False)
+    two = fl["two_phase"]
+    target = 0.0 if kind == "bubble" else 1.0
+    for k in range(n - 1):
+        if two[k] != two[k + 1]:
+            inside = k if two[k] else k + 1
+            a, b = grid[inside], grid[k + 1 if two[k] else k]
+            lnK, beta = fl["lnK"][inside], fl["beta"][inside]
+            for _ in range(45):
+                mid = 0.5 * (a + b)
+                Tm, Pm = (T, np.exp(mid)) if solve_for == "P" else (mid, P)
+                f = flash_TP(np.array([Tm]), np.array([Pm]), z, p, raise_on_fail=False)
+                if f["two_phase"][0]:
+                    a, lnK, beta = mid, f["lnK"][0], f["beta"][0]
+                else:
+                    b = mid
+            if abs(beta - target) < 0.05:
+                return a, lnK
+    raise ConvergenceError(f"{kind}_point", "no phase boundary found on the flash grid",
+                           dict(T=T, P=P))
+
+
+def _saturation_point_from(var, T, P, z, p, kind, solve_for, tol, maxiter, lnK=None):
+    """One run of the bubble/dew iteration from the outer variable ``var``."""
+    if lnK is None:
+        lnK = wilson_lnK(T if solve_for == "P" else var, np.exp(var) if solve_for == "P" else P,
+                         p.Tc, p.Pc, p.omega)
     prev = None
     for it in range(maxiter):
         TT = np.array([T if solve_for == "P" else var])
@@ -588,12 +646,12 @@ def _saturation_point(T, P, z, p, kind, solve_for, tol=1e-10, maxiter=200):
             lnK = new
         K = np.exp(lnK)
         g = np.log((z * K).sum()) if kind == "bubble" else np.log((z / K).sum())
-        if abs(g) < tol:
-            return float(TT[0]), float(PP[0]), w, lnK
-        if np.max(np.abs(lnK)) < 1e-5:
+        if np.max(np.abs(lnK)) < 1e-3:
             raise ConvergenceError(f"{kind}_point", "trivial solution (K = 1): near or above the "
                                    "critical point, no saturation point here",
                                    dict(T=float(TT[0]), P=float(PP[0])), float(g))
+        if abs(g) < tol:
+            return float(TT[0]), float(PP[0]), w, lnK
         if prev is None:
             # first step: a small probe, then secant steps on g(var)
             step = 0.01 if solve_for == "P" else 0.5

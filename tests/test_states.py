@@ -268,3 +268,32 @@ def test_convergence_error_carries_last_iterate():
     err = ConvergenceError("demo", "stopped", dict(T=300.0), 1e-3)
     assert err.last_iterate == {"T": 300.0} and err.residual == 1e-3
     assert "T=300.0" in str(err)
+
+
+def _thermo_flasher(g):
+    thermo = pytest.importorskip("thermo")
+    from thermo import CEOSGas, CEOSLiquid, ChemicalConstantsPackage, FlashVL, PRMIX
+
+    consts = ChemicalConstantsPackage(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega),
+                                      MWs=list(g.molar_masses * 1e3), CASs=[c.cas for c in g.components])
+    cpg = [thermo.HeatCapacityGas(poly_fit=(1.0, 5000.0, list(8.314462618 * c[::-1]))) for c in g.cp_coeffs]
+    kw = dict(eos_kwargs=dict(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega), kijs=g.kij.tolist()),
+              HeatCapacityGases=cpg)
+    return FlashVL(consts, None, liquid=CEOSLiquid(PRMIX, **kw), gas=CEOSGas(PRMIX, **kw))
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("mix,T,P", [("propane_butane", 300.0, 6e5), ("rich_ng", 250.0, 3e6),
+                                     ("co2_impure", 270.0, 4e6)])
+def test_bubble_dew_points_vs_thermo(mix, T, P):
+    """Bubble and dew points (P at T, T at P) vs thermo 0.6.1 FlashVL with VF = 0 / 1,
+    same constants and kij. The rich gas at 250 K has its bubble point near the
+    mixture's critical point (successive substitution alone falls into K = 1 there)."""
+    g = eosfill.Fluid(MIXTURES[mix][0])
+    fl = _thermo_flasher(g)
+    z = list(g.mole_fractions)
+    for kind, fn, VF in (("bubble", eq.bubble_point, 0.0), ("dew", eq.dew_point, 1.0)):
+        _, Pb, _ = fn(g.mole_fractions, g.params, T=T)
+        assert Pb == pytest.approx(fl.flash(T=T, VF=VF, zs=z).P, rel=1e-7), f"{kind} P at {T} K"
+        Tb, _, _ = fn(g.mole_fractions, g.params, P=P)
+        assert Tb == pytest.approx(fl.flash(P=P, VF=VF, zs=z).T, rel=1e-8), f"{kind} T at {P} Pa"
