@@ -572,18 +572,37 @@ def _saturation_point(T, P, z, p, kind, solve_for, tol=1e-10, maxiter=200):
     last = None
     for var0 in starts:
         try:
-            return _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter)
+            res = _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter)
         except ConvergenceError as exc:
             last = exc
+            continue
+        if _on_boundary(kind, res[0], res[1], z, p):
+            return res
+        last = ConvergenceError(f"{kind}_point", "converged to a point that is not on the "
+                                f"{kind} line (flash check)", dict(T=res[0], P=res[1]))
     # near a critical point successive substitution falls into K = 1 from every
     # start: locate the phase boundary with the flash instead (the vapour
     # fraction reaches 0 at a bubble point, 1 at a dew point), then polish
     # from the flash's K-values
     try:
         var0, lnK0 = _boundary_by_flash(T, P, z, p, kind, solve_for)
-        return _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter, lnK0)
+        res = _saturation_point_from(var0, T, P, z, p, kind, solve_for, tol, maxiter, lnK0)
     except ConvergenceError:
         raise last from None
+    if not _on_boundary(kind, res[0], res[1], z, p):
+        raise last
+    return res
+
+
+def _on_boundary(kind, T, P, z, p, eps=1e-5):
+    """A bubble point has the feed just two-phase with β → 0 when warmed a
+    little; a dew point, just two-phase with β → 1 when cooled a little."""
+    Tt = T * (1.0 + eps) if kind == "bubble" else T * (1.0 - eps)
+    f = flash_TP(np.array([Tt]), np.array([P]), z, p, raise_on_fail=False)
+    if not f["two_phase"][0]:
+        return False
+    beta = f["beta"][0]
+    return beta < 0.05 if kind == "bubble" else beta > 0.95
 
 
 def _boundary_by_flash(T, P, z, p, kind, solve_for, n=48):
@@ -687,3 +706,41 @@ def dew_point(z, p, T=None, P=None):
         raise InputError("dew_point", (T, P), "exactly one of T or P")
     Td, Pd, x, _ = _saturation_point(T, P, z, p, "dew", "P" if T is not None else "T")
     return Td, Pd, x
+
+
+# --------------------------------------------------------------------------
+# phase envelope (mixtures) and saturation dome (pure fluids)
+# --------------------------------------------------------------------------
+def phase_envelope(z, p, n=24, P_min=1e5):
+    """Bubble and dew curves of a mixture, point by point in pressure.
+
+    At each pressure of a geometric grid from ``P_min`` upward the bubble
+    and dew temperatures are solved (:func:`bubble_point`,
+    :func:`dew_point`); the grid stops where neither exists any more (above
+    the cricondenbar).  A tracer of the whole envelope through the critical
+    point (Michelsen 1980) would be more complete; this one is enough to
+    draw the dome on a diagram.
+
+    Returns
+    -------
+    dict with ``bubble`` and ``dew``: each (P, T, incipient composition)
+    arrays of the points that converged.
+    """
+    z = np.asarray(z, dtype=float)
+    Pmax = 1.5 * float(p.Pc @ z) + 0.5 * float(p.Pc.max())
+    grid = np.geomspace(P_min, Pmax, n)
+    out = {"bubble": ([], [], []), "dew": ([], [], [])}
+    for kind, fn in (("bubble", bubble_point), ("dew", dew_point)):
+        misses = 0
+        for P in grid:
+            try:
+                T, _, w = fn(z, p, P=float(P))
+            except ConvergenceError:
+                misses += 1
+                if misses >= 3:
+                    break
+                continue
+            out[kind][0].append(P)
+            out[kind][1].append(T)
+            out[kind][2].append(w)
+    return {k: tuple(np.array(a) for a in v) for k, v in out.items()}

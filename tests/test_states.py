@@ -297,3 +297,20 @@ def test_bubble_dew_points_vs_thermo(mix, T, P):
         assert Pb == pytest.approx(fl.flash(T=T, VF=VF, zs=z).P, rel=1e-7), f"{kind} P at {T} K"
         Tb, _, _ = fn(g.mole_fractions, g.params, P=P)
         assert Tb == pytest.approx(fl.flash(P=P, VF=VF, zs=z).T, rel=1e-8), f"{kind} T at {P} Pa"
+
+
+def test_phase_envelope_encloses_two_phase_states():
+    """Consistency: bubble below dew at every pressure of the envelope, and a
+    state between them flashes two-phase (propane-butane, well away from
+    the critical point)."""
+    g = eosfill.Fluid(MIXTURES["propane_butane"][0])
+    env = eq.phase_envelope(g.mole_fractions, g.params, n=6, P_min=2e5)
+    Pb, Tb, _ = env["bubble"]
+    Pd, Td, _ = env["dew"]
+    common = np.intersect1d(Pb, Pd)
+    assert common.size >= 4
+    for P in common:
+        tb, td = Tb[Pb == P][0], Td[Pd == P][0]
+        assert tb < td
+        fl = eq.flash_TP(np.array([0.5 * (tb + td)]), np.array([P]), g.mole_fractions, g.params)
+        assert fl["two_phase"][0]
