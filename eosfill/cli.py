@@ -216,9 +216,11 @@ def cmd_run(args):
     from . import jobs
 
     result = jobs.run_scenario(scenario)
-    if result is not None:
-        print(result)
-    print(CAUTION)
+    text = "" if result is None else str(result)
+    if text:
+        print(text)
+    if "Caution" not in text:  # results carry their own caution; never print none
+        print(CAUTION)
     return EXIT_OK
 
 

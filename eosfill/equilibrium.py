@@ -294,7 +294,8 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
         w = W / W.sum(axis=-1, keepdims=True)
         lnphi_w, _ = lnphi_root(TT[idx], PP[idx], w, p)
         new = np.where(zz[idx] > 0, dd[idx] - lnphi_w, -np.inf)
-        diff = np.where(zz[idx] > 0, new - lnW[idx], 0.0)
+        with np.errstate(invalid="ignore"):  # absent components: -inf - -inf, masked out
+            diff = np.where(zz[idx] > 0, new - lnW[idx], 0.0)
         lnW[idx] = new
         conv = np.max(np.abs(diff), axis=-1) < tol
         # trivial solution: w → z
@@ -306,6 +307,11 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
         trivial[idx] = wz
         stop = conv | wz | (neg & (np.max(np.abs(diff), axis=-1) < 1e-4))
         active[idx[stop]] = False
+        # once one trial of a state has shown instability, its twin can stop
+        found = np.zeros(n, dtype=bool)
+        clear = idx[neg & (np.max(np.abs(diff), axis=-1) < 1e-4)]
+        found[clear % n] = True
+        active &= ~np.concatenate([found, found])
     tm = np.where(trivial, 0.0, tm)
     tmv, tml = tm[:n], tm[n:]
     unstable = np.minimum(tmv, tml) < -1e-10

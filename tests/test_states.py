@@ -14,6 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import eosfill
+from _reference import thermo_flashvl
 from eosfill import equilibrium as eq
 from eosfill.errors import ConvergenceError, InputError, RangeWarning
 
@@ -93,16 +94,7 @@ MIXTURES = {
 
 
 def _thermo_flash(g, T, P):
-    thermo = pytest.importorskip("thermo")
-    from thermo import CEOSGas, CEOSLiquid, ChemicalConstantsPackage, FlashVL, PRMIX
-
-    consts = ChemicalConstantsPackage(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega),
-                                      MWs=list(g.molar_masses * 1e3), CASs=[c.cas for c in g.components])
-    cpg = [thermo.HeatCapacityGas(poly_fit=(1.0, 5000.0, list(8.314462618 * c[::-1]))) for c in g.cp_coeffs]
-    kw = dict(eos_kwargs=dict(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega), kijs=g.kij.tolist()),
-              HeatCapacityGases=cpg)
-    fl = FlashVL(consts, None, liquid=CEOSLiquid(PRMIX, **kw), gas=CEOSGas(PRMIX, **kw))
-    return fl.flash(T=T, P=P, zs=list(g.mole_fractions))
+    return thermo_flashvl(g).flash(T=T, P=P, zs=list(g.mole_fractions))
 
 
 @pytest.mark.reference
@@ -270,18 +262,6 @@ def test_convergence_error_carries_last_iterate():
     assert "T=300.0" in str(err)
 
 
-def _thermo_flasher(g):
-    thermo = pytest.importorskip("thermo")
-    from thermo import CEOSGas, CEOSLiquid, ChemicalConstantsPackage, FlashVL, PRMIX
-
-    consts = ChemicalConstantsPackage(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega),
-                                      MWs=list(g.molar_masses * 1e3), CASs=[c.cas for c in g.components])
-    cpg = [thermo.HeatCapacityGas(poly_fit=(1.0, 5000.0, list(8.314462618 * c[::-1]))) for c in g.cp_coeffs]
-    kw = dict(eos_kwargs=dict(Tcs=list(g.Tc), Pcs=list(g.Pc), omegas=list(g.omega), kijs=g.kij.tolist()),
-              HeatCapacityGases=cpg)
-    return FlashVL(consts, None, liquid=CEOSLiquid(PRMIX, **kw), gas=CEOSGas(PRMIX, **kw))
-
-
 @pytest.mark.reference
 @pytest.mark.parametrize("mix,T,P", [("propane_butane", 300.0, 6e5), ("rich_ng", 250.0, 3e6),
                                      ("co2_impure", 270.0, 4e6)])
@@ -290,7 +270,7 @@ def test_bubble_dew_points_vs_thermo(mix, T, P):
     same constants and kij. The rich gas at 250 K has its bubble point near the
     mixture's critical point (successive substitution alone falls into K = 1 there)."""
     g = eosfill.Fluid(MIXTURES[mix][0])
-    fl = _thermo_flasher(g)
+    fl = thermo_flashvl(g)
     z = list(g.mole_fractions)
     for kind, fn, VF in (("bubble", eq.bubble_point, 0.0), ("dew", eq.dew_point, 1.0)):
         _, Pb, _ = fn(g.mole_fractions, g.params, T=T)

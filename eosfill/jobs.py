@@ -1,0 +1,164 @@
+"""Run a scenario: map a :class:`eosfill.scenario.Scenario` to the vessel
+balances of :mod:`eosfill.vessel` and write the files it asks for.
+
+``eosfill run FILE`` calls :func:`run_scenario`; it prints ``str(result)``.
+Kinds: ``fill``, ``cascade_fill``, ``liquefied_fill`` and ``vent`` here;
+``transient_fill`` and ``transient_vent`` are handed to
+``eosfill.transient.run_scenario`` when that module exists.
+
+Each flag raised in a result is also issued as a
+:class:`eosfill.errors.LimitWarning`.
+
+Results are estimates from an equation of state and simplified models;
+local codes, the vessel's approval documents and licensed practice govern.
+"""
+from __future__ import annotations
+
+import csv
+import html
+import importlib.util
+import json
+import warnings
+
+from .errors import EosfillError, InputError, LimitWarning
+from .scenario import TRANSIENT_KINDS
+
+_STOP_KEYS = ("target_pressure", "target_mass", "target_settled_pressure", "target_fill_density",
+              "supply_pressure")
+
+
+def _stop_of(scenario):
+    s = scenario.stop
+    for key in _STOP_KEYS:
+        val = getattr(s, key)
+        if val is not None and val is not False:
+            return key, (None if key == "supply_pressure" else val)
+    raise InputError("stop", None, "one of " + ", ".join(_STOP_KEYS))
+
+
+def _limits(scenario):
+    from dataclasses import asdict
+
+    return {k: v for k, v in asdict(scenario.limits).items() if v is not None}
+
+
+def _fluid_of(scenario, composition):
+    return scenario.fluid().with_composition(scenario.mole_fractions(composition))
+
+
+def _vessel_of(scenario):
+    from .vessel import Vessel
+
+    v = scenario.vessel
+    Cw = 0.0
+    if v.wall_mass is not None and v.wall_specific_heat is not None:
+        Cw = v.wall_mass * v.wall_specific_heat
+    elif (v.wall_mass is None) != (v.wall_specific_heat is None):
+        missing = "vessel.wall_specific_heat" if v.wall_specific_heat is None else "vessel.wall_mass"
+        raise InputError(missing, None, "both vessel.wall_mass and vessel.wall_specific_heat, or neither")
+    ini = scenario.initial
+    Tw = ini.wall_temperature
+    if Tw is None:
+        Tw = ini.temperature if ini.temperature is not None else scenario.ambient.temperature
+    return Vessel(v.volume, wall_heat_capacity=Cw, wall_temperature=Tw if Cw > 0 else None)
+
+
+def _initial_of(scenario):
+    from .vessel import Stream
+
+    ini = scenario.initial
+    if ini.empty:
+        return None
+    return Stream(_fluid_of(scenario, ini.composition), ini.temperature, P=ini.pressure, mass=ini.mass)
+
+
+def run_scenario(scenario):
+    """Compute a scenario's result and write its json/csv/report files.
+
+    Returns
+    -------
+    eosfill.vessel.Result (or the transient module's result)
+    """
+    from . import vessel as vs
+
+    kind = scenario.kind
+    if kind in TRANSIENT_KINDS:
+        if importlib.util.find_spec("eosfill.transient") is not None:
+            from . import transient
+
+            if hasattr(transient, "run_scenario"):
+                return transient.run_scenario(scenario)
+        raise EosfillError(f"kind {kind!r} (time-resolved) is not available in this eosfill yet; "
+                           "the end-state kinds fill, cascade_fill, liquefied_fill and vent are")
+    vessel = _vessel_of(scenario)
+    initial = _initial_of(scenario)
+    limits = _limits(scenario)
+    stop, target = _stop_of(scenario)
+    common = dict(stop=stop, target=target, temperature_limit=scenario.stop.temperature_limit, limits=limits)
+    fills = dict(settled_temperature=scenario.stop.settled_temperature,
+                 nominal_pressure=scenario.vessel.working_pressure,
+                 nominal_temperature=scenario.vessel.working_temperature,
+                 state_of_charge=scenario.vessel.working_pressure is not None)
+    if kind in ("fill", "liquefied_fill"):
+        sup = scenario.supply
+        supply = vs.Stream(_fluid_of(scenario, sup.composition), sup.temperature, P=sup.pressure)
+        result = vs.fill(vessel, supply, initial, liquefied=kind == "liquefied_fill", **common, **fills)
+    elif kind == "cascade_fill":
+        banks = [vs.Bank(b.volume, vs.Stream(_fluid_of(scenario, b.composition), b.temperature, P=b.pressure),
+                         name=b.name or str(i + 1)) for i, b in enumerate(scenario.banks)]
+        result = vs.cascade_fill(vessel, banks, initial,
+                                 switch_pressure_difference=scenario.cascade.switch_pressure_difference,
+                                 **common, **fills)
+    elif kind == "vent":
+        result = vs.vent(vessel, initial, **common)
+    else:  # pragma: no cover - the scenario reader allows no other kind
+        raise InputError("kind", kind, "fill, cascade_fill, liquefied_fill, vent")
+    result.title = scenario.title
+    for flag in result.flags:
+        warnings.warn(flag, LimitWarning, stacklevel=2)
+    write_outputs(scenario, result)
+    return result
+
+
+# --------------------------------------------------------------------------
+# files
+# --------------------------------------------------------------------------
+def _table(result, engineering=True):
+    """Rows for the CSV: cascade stages, or the end state along the fill/vent."""
+    if engineering:
+        head_T, head_P = "T_degC", "P_bar"
+        cT, cP = (lambda T: T - 273.15), (lambda P: P / 1e5)
+    else:
+        head_T, head_P = "T_K", "P_Pa"
+        cT, cP = (lambda T: T), (lambda P: P)
+    if result.stages:
+        header = ["bank", "reason", "bank_" + head_T, "bank_" + head_P, "mass_drawn_kg",
+                  "vessel_" + head_T, "vessel_" + head_P, "vessel_mass_kg"]
+        rows = [[s["bank"], s["reason"], cT(s["bank_T"]), cP(s["bank_P"]), s["mass_drawn"],
+                 cT(s["vessel_T"]), cP(s["vessel_P"]), s["vessel_mass"]] for s in result.stages]
+        return header, rows
+    header = ["vessel_mass_kg", head_T, head_P]
+    rows = [[p["mass"], cT(p["T"]), cP(p["P"])] for p in result.curve]
+    return header, rows
+
+
+def write_outputs(scenario, result):
+    """Write ``scenario.output.json`` / ``.csv`` / ``.report`` if set."""
+    out = scenario.output
+    if out.json is not None:
+        data = {"scenario": scenario.to_dict(), "result": result.to_dict()}
+        with open(out.json, "w", encoding="utf-8") as fh:
+            json.dump(data, fh, indent=2, default=str)
+    if out.csv is not None:
+        header, rows = _table(result, engineering=out.units != "SI")
+        with open(out.csv, "w", newline="", encoding="utf-8") as fh:
+            w = csv.writer(fh)
+            w.writerow(header)
+            for r in rows:
+                w.writerow([f"{x:.{out.digits}g}" if isinstance(x, float) else x for x in r])
+    if out.report is not None:
+        title = html.escape(scenario.title or "eosfill result")
+        body = html.escape("\n".join(scenario.summary()) + "\n\n" + str(result))
+        with open(out.report, "w", encoding="utf-8") as fh:
+            fh.write(f"<!DOCTYPE html>\n<html><head><meta charset=\"utf-8\"><title>{title}</title></head>\n"
+                     f"<body><h1>{title}</h1>\n<pre>{body}</pre>\n</body></html>\n")
