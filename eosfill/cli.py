@@ -8,8 +8,9 @@ Examples::
 
     eosfill state --fluid "methane=0.9,ethane=0.1" --T "15 degC" --P "200 bar"
     eosfill explain --fluid nitrogen --model SRK --T "300 K" --P "5 MPa"
+    eosfill explain --scenario data/scenarios/cylinder_fill_residual.toml
     eosfill fluids
-    eosfill run data/scenarios/cng_fill.toml --json result.json
+    eosfill run data/scenarios/cng_fill.toml --json result.json --report result.html
 """
 from __future__ import annotations
 
@@ -76,7 +77,7 @@ def _make_fluid(args):
 
 
 def _fluid_options(p):
-    p.add_argument("--fluid", required=True,
+    p.add_argument("--fluid", required=p.prog.split()[-1] != "explain",
                    help='one fluid ("nitrogen") or a mixture ("methane=0.9,ethane=0.1")')
     p.add_argument("--model", default="PR", type=str.upper, choices=("PR", "PR78", "SRK"),
                    help="cubic equation of state (default PR)")
@@ -166,12 +167,47 @@ def cmd_explain(args):
     from .trace import format_trace, trace_state
     from .units import parse_quantity
 
+    if args.scenario is not None:
+        return _explain_scenario(args)
+    missing = [o for o in ("fluid", "T", "P") if getattr(args, o) is None]
+    if missing:
+        raise InputError("explain", None, message="explain: give --fluid, --T and --P (missing: "
+                         + ", ".join("--" + m for m in missing) + "), or --scenario FILE")
     fluid = _make_fluid(args)
     amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
     T = parse_quantity(args.T, "temperature", "--T")
     P = parse_quantity(args.P, "pressure", "--P", ambient_pressure=amb)
     print(format_trace(trace_state(fluid, T, P)))
     return EXIT_OK
+
+
+def _explain_scenario(args):
+    """The balance of a scenario's end state with its numbers, and the end state's trace."""
+    from . import jobs
+    from .report import balance_trace
+    from .scenario import load_scenario
+    from .trace import format_trace
+
+    scenario = load_scenario(args.scenario)
+    if scenario.kind not in ("fill", "cascade_fill", "liquefied_fill", "vent"):
+        raise InputError("--scenario", args.scenario, message=f"explain --scenario {args.scenario}: kind "
+                         f"{scenario.kind!r} has no end-state balance to explain (fill, cascade_fill, "
+                         "liquefied_fill and vent have)")
+    result = jobs.run_scenario(scenario, write=False)
+    print(format_trace(balance_trace(scenario, result)))
+    return EXIT_OK
+
+
+def _require_report_tools(scenario):
+    """A report needs matplotlib: say so before anything is computed or written."""
+    if scenario.output.report is None:
+        return
+    from .report import require_matplotlib
+
+    try:
+        require_matplotlib()
+    except EosfillError as exc:
+        raise InputError("--report", str(scenario.output.report), message=f"--report: {exc}") from None
 
 
 def cmd_fluids(args):
@@ -206,6 +242,7 @@ def cmd_run(args):
         if p.is_dir():
             raise InputError(f"--{key}", raw, message=f"--{key} {raw}: is a folder; give a file name")
         setattr(scenario.output, key, p)
+    _require_report_tools(scenario)
     for line in scenario.summary():
         print(line)
     if importlib.util.find_spec("eosfill.jobs") is None:
@@ -239,7 +276,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("scenario", help="scenario file, e.g. fill.toml (schema: docs/scenario.md)")
     p.add_argument("--json", metavar="FILE", help="write the results as JSON")
     p.add_argument("--csv", metavar="FILE", help="write the time series or table as CSV")
-    p.add_argument("--report", metavar="FILE", help="write an HTML report")
+    p.add_argument("--report", metavar="FILE", help="write an HTML report (self-contained, plots embedded) and "
+                   "its Markdown twin FILE.md beside it, with the plots as PNG files; needs matplotlib")
     p.set_defaults(func=cmd_run)
 
     p = sub.add_parser("state", help="properties of a fluid at two given properties")
@@ -255,10 +293,14 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("fluids", help="list the bundled fluids and their data sources")
     p.set_defaults(func=cmd_fluids)
 
-    p = sub.add_parser("explain", help="calculation trace of a single-phase state at T, P")
+    p = sub.add_parser("explain", help="calculation trace of a single-phase state at T, P, or of a "
+                       "scenario's end state (--scenario)")
     _fluid_options(p)
-    p.add_argument("--T", required=True, help='temperature, e.g. "15 degC"')
-    p.add_argument("--P", required=True, help='pressure, e.g. "200 bar"')
+    p.add_argument("--T", help='temperature, e.g. "15 degC"')
+    p.add_argument("--P", help='pressure, e.g. "200 bar"')
+    p.add_argument("--scenario", metavar="FILE", help="explain a scenario's end state instead: the mass and "
+                   "energy balance with every number, then the end state's trace (kinds fill, cascade_fill, "
+                   "liquefied_fill, vent)")
     p.set_defaults(func=cmd_explain)
     return parser
 

@@ -15,7 +15,6 @@ local codes, the vessel's approval documents and licensed practice govern.
 from __future__ import annotations
 
 import csv
-import html
 import importlib.util
 import json
 import warnings
@@ -72,8 +71,10 @@ def _initial_of(scenario):
     return Stream(_fluid_of(scenario, ini.composition), ini.temperature, P=ini.pressure, mass=ini.mass)
 
 
-def run_scenario(scenario):
+def run_scenario(scenario, write=True):
     """Compute a scenario's result and write its json/csv/report files.
+
+    ``write=False`` computes only (nothing is written).
 
     Returns
     -------
@@ -87,7 +88,14 @@ def run_scenario(scenario):
             from . import transient
 
             if hasattr(transient, "run_scenario"):
-                return transient.run_scenario(scenario)
+                if not write:
+                    from dataclasses import replace
+
+                    scenario = replace(scenario, output=replace(scenario.output, json=None, csv=None, report=None))
+                result = transient.run_scenario(scenario)  # writes its own json/csv
+                if write and scenario.output.report is not None:
+                    write_report(scenario, result)
+                return result
         raise EosfillError(f"kind {kind!r} (time-resolved) is not available in this eosfill yet; "
                            "the end-state kinds fill, cascade_fill, liquefied_fill and vent are")
     vessel = _vessel_of(scenario)
@@ -116,7 +124,8 @@ def run_scenario(scenario):
     result.title = scenario.title
     for flag in result.flags:
         warnings.warn(flag, LimitWarning, stacklevel=2)
-    write_outputs(scenario, result)
+    if write:
+        write_outputs(scenario, result)
     return result
 
 
@@ -145,6 +154,10 @@ def _table(result, engineering=True):
 def write_outputs(scenario, result):
     """Write ``scenario.output.json`` / ``.csv`` / ``.report`` if set."""
     out = scenario.output
+    if out.report is not None:  # fail before anything is written when the report cannot be made
+        from .report import require_matplotlib
+
+        require_matplotlib()
     if out.json is not None:
         data = {"scenario": scenario.to_dict(), "result": result.to_dict()}
         with open(out.json, "w", encoding="utf-8") as fh:
@@ -157,8 +170,13 @@ def write_outputs(scenario, result):
             for r in rows:
                 w.writerow([f"{x:.{out.digits}g}" if isinstance(x, float) else x for x in r])
     if out.report is not None:
-        title = html.escape(scenario.title or "eosfill result")
-        body = html.escape("\n".join(scenario.summary()) + "\n\n" + str(result))
-        with open(out.report, "w", encoding="utf-8") as fh:
-            fh.write(f"<!DOCTYPE html>\n<html><head><meta charset=\"utf-8\"><title>{title}</title></head>\n"
-                     f"<body><h1>{title}</h1>\n<pre>{body}</pre>\n</body></html>\n")
+        write_report(scenario, result)
+
+
+def write_report(scenario, result):
+    """Write the HTML report at ``scenario.output.report`` and its Markdown twin (:mod:`eosfill.report`).
+
+    Raises EosfillError (with an install hint) when matplotlib is missing."""
+    from . import report
+
+    return report.write_report(scenario, result, scenario.output.report)

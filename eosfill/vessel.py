@@ -25,9 +25,9 @@ at the gas temperature; heat Q [J] added to the content):
      the mixture leaves as a whole ("homogeneous outflow"), also when
      two-phase; a vapour-only draw is not modelled here.
 (V5) vent with a wall in equilibrium with the gas:
-         d(n u + C_w T) = h dn   =>   (n c_v + C_w) dT = v T (dP/dT)_v dn
-     integrated in x = ln n (scipy ``solve_ivp``), with the enthalpy that
-     leaves integrated alongside for the energy closure.
+         d(n u + C_w T) = h dn   (equivalently (n c_v + C_w) dT = v T (dP/dT)_v dn)
+     integrated for E = n u + C_w T in x = ln n (scipy ``solve_ivp``),
+     T recovered from E at each step; the enthalpy that left is E_0 - E_f.
 (V6) cascade bank k (adiabatic, homogeneous outflow): the bank vents along
      its own isentrope, s_b = s_b0 at v_b = V_b/(n_b0 - N); the vessel
      receives H_k(N) = ∫_0^N h_b(N') dN' (Gauss-Legendre quadrature in N).
@@ -202,6 +202,11 @@ def _state(fluid, z, **spec):
     f = fluid.with_composition(z) if z is not None else fluid
     with np.errstate(invalid="ignore", divide="ignore"):
         return f.state(**spec)
+
+
+def _comp_dict(fluid, z):
+    """{name: mole fraction} of the components present in z."""
+    return {k: float(x) for k, x in zip(fluid.names, np.asarray(z)) if x > 0}
 
 
 def _molar_mass(fluid, z):
@@ -1022,21 +1027,38 @@ def _vent_isentropic(fluid, z, V, n0, s0, stop, target, T_lim):
     return n_f, st, E_out, reached, _path_points(fluid, z, V, s0, n0, n_f)
 
 
-def _dT_dlnn(fluid, z, V, n, T, Cw):
-    """(V5): dT/d ln n = V T (dP/dT)_v / (n c_v + C_w)."""
+def _T_of_energy(fluid, z, V, n, E, Cw, T_guess, maxiter=60):
+    """T with n u(T, V/n) + C_w T = E (V5): Newton on T, derivative n c_v + C_w
+    (single phase: analytic c_v; two phase: backward difference of the
+    equilibrium u(T, v), which stays inside the two-phase region at fixed v)."""
     v = V / n
-    st = _state(fluid, z, T=T, v=v)
-    if str(st.phase) != "two-phase":
-        cv, dPdT = _f(st.cv), _f(st.dP_dT_v)
-    else:  # two-phase: central differences of the equilibrium (T, v) states
-        dT = 1e-4 * T
-        a, b = _state(fluid, z, T=T - dT, v=v), _state(fluid, z, T=T + dT, v=v)
-        cv = (_f(b.u) - _f(a.u)) / (2 * dT)
-        dPdT = (_f(b.P) - _f(a.P)) / (2 * dT)
-    return V * T * dPdT / (n * cv + Cw), st
+    T = T_guess
+    st = None
+    for _ in range(maxiter):
+        st = _state(fluid, z, T=T, v=v)
+        f = n * _f(st.u) + Cw * T - E
+        if str(st.phase) != "two-phase":
+            cv = _f(st.cv)
+        else:
+            dT = 1e-6 * T
+            cv = (_f(st.u) - _f(_state(fluid, z, T=T - dT, v=v).u)) / dT
+        step = -f / (n * cv + Cw)
+        step = max(min(step, 0.2 * T), -0.2 * T)
+        T += step
+        if abs(step) <= 1e-13 * T:
+            return T, _state(fluid, z, T=T, v=v)
+    raise ConvergenceError("vent with wall (V5)", "wall-and-gas temperature not found from the energy",
+                           dict(n=n, T=T, E=E))
 
 
 def _vent_wall(fluid, z, V, n0, T0, Cw, stop, target, T_lim):
+    """(V5) in energy form: E = n u + C_w T_w with T_w = T, x = ln n,
+
+        dE/dx = n h(T, V/n)          (the gas leaves with its own enthalpy)
+
+    integrated by ``solve_ivp`` (DOP853, rtol 1e-11); T at each x from E by
+    Newton (:func:`_T_of_energy`).  Carrying E rather than T keeps the
+    balance exact across the dew point, where c_v jumps."""
     from scipy.integrate import solve_ivp
 
     M = _molar_mass(fluid, z)
@@ -1045,43 +1067,52 @@ def _vent_wall(fluid, z, V, n0, T0, Cw, stop, target, T_lim):
         x_end = math.log(target / M)
     else:
         x_end = math.log(n0 * 1e-6)
+    st0 = _state(fluid, z, T=T0, v=V / n0)
+    E0 = n0 * _f(st0.u) + Cw * T0
+    memo = {"T": T0}
+
+    def T_at(x, E):
+        T, st = _T_of_energy(fluid, z, V, math.exp(x), E, Cw, memo["T"])
+        memo["T"] = T
+        return T, st
 
     def rhs(x, y):
         n = math.exp(x)
-        dT, st = _dT_dlnn(fluid, z, V, n, y[0], Cw)
-        return [dT, -_f(st.h) * n]
+        _, st = T_at(x, y[0])
+        return [n * _f(st.h)]
 
     events = []
     if stop == "target_pressure":
         def ev_P(x, y):
-            return _f(_state(fluid, z, T=y[0], v=V / math.exp(x)).P) - target
+            return _f(T_at(x, y[0])[1].P) - target
         ev_P.terminal, ev_P.direction = True, 0
         events.append(ev_P)
     if T_lim is not None:
         def ev_T(x, y):
-            return y[0] - T_lim
+            return T_at(x, y[0])[0] - T_lim
         ev_T.terminal, ev_T.direction = True, 0
         events.append(ev_T)
-    sol = solve_ivp(rhs, (x0, x_end), [T0, 0.0], method="DOP853", rtol=1e-11, atol=[1e-9, 1e-6],
+    sol = solve_ivp(rhs, (x0, x_end), [E0], method="DOP853", rtol=1e-11, atol=1e-9 * abs(E0) + 1e-6,
                     events=events or None, dense_output=False)
     if sol.status < 0:
-        raise ConvergenceError("vent with wall (V5)", sol.message, dict(n=math.exp(sol.t[-1]), T=sol.y[0, -1]))
+        raise ConvergenceError("vent with wall (V5)", sol.message, dict(n=math.exp(sol.t[-1]), T=memo["T"]))
     reached = stop
-    x_f, (T_f, E_out) = sol.t[-1], sol.y[:, -1]
+    x_f, E_f = sol.t[-1], sol.y[0, -1]
     if sol.status == 1:
         k = [i for i, e in enumerate(sol.t_events) if len(e)][0]
         reached = "target_pressure" if (stop == "target_pressure" and k == 0) else "temperature_limit"
         x_f = sol.t_events[k][0]
-        T_f, E_out = sol.y_events[k][0]
+        E_f = sol.y_events[k][0][0]
     elif stop == "target_pressure":
-        raise ConvergenceError("vent with wall (V5)", "target pressure not reached", dict(T=T_f))
+        raise ConvergenceError("vent with wall (V5)", "target pressure not reached", dict(T=memo["T"]))
     n_f = math.exp(x_f)
-    st = _state(fluid, z, T=T_f, v=V / n_f)
+    T_f, st = T_at(x_f, E_f)
     path = []
-    for x, T in zip(sol.t, sol.y[0]):
-        s = _state(fluid, z, T=T, v=V / math.exp(x))
-        path.append(dict(n=math.exp(x), T=float(T), P=_f(s.P), phase=str(s.phase)))
-    return n_f, st, float(E_out), reached, path
+    for x, E in zip(sol.t, sol.y[0]):
+        T, s_ = T_at(x, E)
+        path.append(dict(n=math.exp(x), T=float(T), P=_f(s_.P), phase=str(s_.phase)))
+    # energy that left: E0 - E_f (= -∫ h dn along the integration)
+    return n_f, st, float(E0 - E_f), reached, path
 
 
 # --------------------------------------------------------------------------
@@ -1202,6 +1233,7 @@ def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch
         if gap(0.0) <= 0:
             stages.append(dict(bank=bank.name or str(k + 1), reason="skipped: not above the vessel pressure by the "
                                "switch difference", bank_T=_f(d.st0.T), bank_P=_f(d.st0.P), mass_drawn=0.0,
+                               moles_drawn=0.0, energy_drawn=0.0, bank_composition=_comp_dict(fluid, zk),
                                vessel_T=_f(final_st.T) if final_st is not None else (initial.T if initial else float("nan")),
                                vessel_P=_f(final_st.P) if final_st is not None else P0, vessel_mass=m_v))
             bank_end.append(d.st0)
@@ -1228,6 +1260,7 @@ def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch
         H_k = d.H(N_end)
         stages.append(dict(bank=bank.name or str(k + 1), reason=reason, bank_T=_f(b_st.T), bank_P=_f(b_st.P),
                            bank_mass_left=(d.n0 - N_end) * Mb[k], mass_drawn=N_end * Mb[k], energy_drawn=H_k,
+                           moles_drawn=N_end, bank_composition=_comp_dict(fluid, zk),
                            vessel_T=_f(final_st.T), vessel_P=_f(final_st.P), vessel_mass=m_v + N_end * Mb[k]))
         n_v, nz_v, H_tot, m_v = final_n, nz_v + N_end * zk, H_tot + H_k, m_v + N_end * Mb[k]
         if done:

@@ -88,3 +88,97 @@ def test_every_line_names_equation_and_text_is_ordered():
         assert label in text
     assert "licensed practice" in text
     assert cubic.ROOT_CHOICE_TEXT[0] in text
+
+
+# --------------------------------------------------------------------------
+# the balance of a fill or vent with its numbers (trace_fill); consistency checks
+# --------------------------------------------------------------------------
+from pathlib import Path  # noqa: E402
+
+from eosfill.trace import trace_fill  # noqa: E402
+
+DEMOS = Path(__file__).resolve().parent.parent / "data" / "scenarios"
+
+
+def _demo(name):
+    import warnings
+
+    from eosfill import jobs
+    from eosfill.scenario import load_scenario
+
+    sc = load_scenario(DEMOS / f"{name}.toml")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        res = jobs.run_scenario(sc, write=False)
+    v = jobs._vessel_of(sc)
+    return sc, res, v, trace_fill(sc.fluid(), res, v.wall_heat_capacity, v.wall_temperature)
+
+
+BALANCE_DEMOS = ["cylinder_fill_residual", "blend_fill_h2_ch4", "liquefied_co2_fill", "ngv_cascade_3bank",
+                 "vent_blowdown_endstate"]
+
+
+@pytest.fixture(scope="module", params=BALANCE_DEMOS)
+def demo_trace(request):
+    return _demo(request.param)
+
+
+def test_balance_numbers_close_by_hand(demo_trace):
+    sc, res, vessel, lines = demo_trace
+    tv = lambda k: trace_value(lines, k)  # noqa: E731
+    nf, n0 = tv("nf"), tv("n0")
+    # each printed product is the product of the printed factors
+    assert math.isclose(tv("nf_uf"), nf * tv("u[final]"), rel_tol=1e-14)
+    if res.initial is not None:
+        assert math.isclose(tv("n0_u0"), n0 * tv("u[initial]"), rel_tol=1e-14)
+    Cw = tv("Cw")
+    if Cw > 0:
+        T_w0 = tv("Tw0") if res.kind != "vent" else tv("T0")
+        assert math.isclose(tv("wall"), Cw * (tv("Tf") - T_w0), rel_tol=1e-14)
+    if res.kind in ("fill", "liquefied_fill"):
+        assert math.isclose(tv("H_in"), (nf - n0) * tv("h_in"), rel_tol=1e-14)
+    # (V2): the substituted numbers satisfy the balance to 1e-9 of n_f R T_f
+    lhs = tv("nf_uf") - tv("n0_u0") + tv("wall")
+    rhs = (-tv("H_out")) if res.kind == "vent" else tv("H_in") + tv("Q")
+    assert abs(lhs - rhs) / (nf * R * tv("Tf")) < 1e-9
+    # (V3)
+    assert math.isclose(tv("vf"), sc.vessel.volume / nf, rel_tol=1e-15)
+    # composition (V1) sums to one
+    zsum = sum(ln.value for ln in lines if ln.key.startswith("zf["))
+    assert math.isclose(zsum, 1.0, rel_tol=1e-12)
+
+
+def test_trace_final_state_equals_result(demo_trace):
+    sc, res, vessel, lines = demo_trace
+    tv = lambda k: trace_value(lines, k)  # noqa: E731
+    assert tv("Tf") == res.final.T and tv("Pf") == res.final.P and tv("nf") == res.final.n
+    assert math.isclose(tv("mf"), res.final.mass, rel_tol=1e-12)
+    for name, x in res.final.composition.items():
+        assert math.isclose(tv(f"zf[{name}]"), x, rel_tol=1e-10, abs_tol=1e-14)
+    if res.final.phase != "two-phase":
+        # the end state's own trace: its v is V/n_f and its u that of the balance
+        assert math.isclose(tv("final.v"), sc.vessel.volume / res.final.n, rel_tol=1e-9)
+        assert tv("final.u") == tv("u[final]")
+        assert tv("final.T") == res.final.T
+    else:
+        assert tv("beta[final]") == pytest.approx(res.final.vapor_fraction, rel=1e-9)
+
+
+def test_fill_trace_text_names_the_equations():
+    sc, res, vessel, lines = _demo("cylinder_fill_residual")
+    text = format_trace(lines)
+    for label in ("(V1)", "(V2)", "(V3)", "== final state: cubic in Z", "(C7)", "licensed practice"):
+        assert label in text
+
+
+def test_cli_explain_scenario():
+    import subprocess
+    import sys
+
+    r = subprocess.run([sys.executable, "-m", "eosfill", "explain", "--scenario",
+                        str(DEMOS / "cylinder_fill_residual.toml")], capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stderr
+    assert "n_f u_f - n_0 u_0 + C_w (T_f - T_w0)   (V2)" in r.stdout
+    r = subprocess.run([sys.executable, "-m", "eosfill", "explain", "--fluid", "nitrogen", "--T", "15 degC"],
+                       capture_output=True, text=True, timeout=60)
+    assert r.returncode == 2 and "--P" in r.stderr

@@ -1,0 +1,1081 @@
+"""Reports of a scenario's result: one self-contained HTML file and its Markdown twin.
+
+:func:`write_report` writes ``NAME.html`` (styles inline, plots embedded as
+PNG data URIs, no outside link) and ``NAME.md`` beside it (the same text and
+numbers; its plots are written next to it as ``NAME.<plot>.png``).  Both
+are built from one list of blocks (:func:`build_report`), so that the two
+files carry the same numbers.
+
+Sections: the caution; the job in words; the inputs with their units; the
+model and data sources (model citation, each component's data keys with
+their citations from ``data/SOURCES.md``, k_ij and their sources, the
+reference state); the results (end states, settled state, short fill,
+state of charge, liquefied-gas figures, cascade banks, time-resolved
+peaks); the energy and mass balance with its closure; the limits checked
+and those passed (in a caution box); the plots; and the balance trace.
+
+Plots need matplotlib (drawn with its Agg canvas, imported on first use);
+without it :func:`write_report` raises :class:`eosfill.errors.EosfillError`
+saying so.  The two-phase region of a mixture takes a few seconds
+(bubble and dew points); it is cached per composition within a process.
+
+Results are estimates from an equation of state and simplified models;
+local codes, the vessel's approval documents and licensed practice govern.
+"""
+from __future__ import annotations
+
+import base64
+import functools
+import html
+import io
+import math
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import EosfillError
+
+CAUTION_TITLE = "Caution"
+CAUTION_TEXT = ("Results are estimates from an equation of state and simplified heat-transfer models "
+                "(adiabatic, lumped-wall or constant-coefficient). Local codes, the vessel's approval "
+                "documents and licensed practice govern. Check the model's density error for your gas "
+                "before trusting a mass.")
+REFERENCE_STATE = ("Reference state: each component as ideal gas with H = 0 and S = 0 at 298.15 K and "
+                   "101 325 Pa (enthalpies, internal energies and entropies in this report are relative to it).")
+MISSING_MATPLOTLIB = ("the report's plots need matplotlib, which is not installed; install it with "
+                      "\"pip install matplotlib\" (or eosfill's report extra), or run without --report")
+
+
+def require_matplotlib():
+    """Import matplotlib (Agg canvas only) or raise EosfillError with an install hint."""
+    try:
+        import matplotlib  # noqa: F401
+        from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: F401
+        from matplotlib.figure import Figure  # noqa: F401
+    except ImportError:
+        raise EosfillError(MISSING_MATPLOTLIB) from None
+
+
+# --------------------------------------------------------------------------
+# blocks of a report
+# --------------------------------------------------------------------------
+@dataclass
+class Block:
+    """One piece of the report: kind is heading, para, caution, table, figure, pre."""
+
+    kind: str
+    text: str = ""
+    level: int = 2
+    lines: list = field(default_factory=list)
+    header: list = field(default_factory=list)
+    rows: list = field(default_factory=list)
+    name: str = ""
+    png: bytes = b""
+    tone: str = "caution"
+
+
+class Report:
+    """The report as blocks; rendered to HTML and Markdown."""
+
+    def __init__(self, title):
+        self.title = title
+        self.blocks = []
+
+    def heading(self, text, level=2):
+        self.blocks.append(Block("heading", text=text, level=level))
+
+    def para(self, text):
+        self.blocks.append(Block("para", text=text))
+
+    def caution(self, title, lines, tone="caution"):
+        self.blocks.append(Block("caution", text=title, lines=list(lines), tone=tone))
+
+    def table(self, header, rows, caption=""):
+        self.blocks.append(Block("table", text=caption, header=list(header),
+                                 rows=[[str(c) for c in r] for r in rows]))
+
+    def figure(self, name, png, caption):
+        self.blocks.append(Block("figure", name=name, png=png, text=caption))
+
+    def pre(self, title, text):
+        self.blocks.append(Block("pre", text=title, lines=text.splitlines()))
+
+    @property
+    def figures(self):
+        return [b for b in self.blocks if b.kind == "figure"]
+
+    # ------------------------------------------------------------------
+    def to_html(self) -> str:
+        e = html.escape
+        out = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+               f"<title>{e(self.title)}</title>", f"<style>{_CSS}</style></head><body>",
+               f"<h1>{e(self.title)}</h1>"]
+        for b in self.blocks:
+            if b.kind == "heading":
+                out.append(f"<h{b.level}>{e(b.text)}</h{b.level}>")
+            elif b.kind == "para":
+                out.append(f"<p>{e(b.text)}</p>")
+            elif b.kind == "caution":
+                items = "".join(f"<li>{e(x)}</li>" for x in b.lines)
+                out.append(f'<div class="box {b.tone}" role="note"><p class="boxtitle">&#9888; {e(b.text)}</p>'
+                           f"<ul>{items}</ul></div>")
+            elif b.kind == "table":
+                cap = f"<caption>{e(b.text)}</caption>" if b.text else ""
+                head = "".join(f"<th>{e(h)}</th>" for h in b.header)
+                body = "".join("<tr>" + "".join(f"<td>{e(c)}</td>" for c in r) + "</tr>" for r in b.rows)
+                out.append(f"<table>{cap}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>")
+            elif b.kind == "figure":
+                data = base64.b64encode(b.png).decode("ascii")
+                out.append(f'<figure id="plot-{e(b.name)}"><img alt="{e(b.text)}" '
+                           f'src="data:image/png;base64,{data}"><figcaption>{e(b.text)}</figcaption></figure>')
+            elif b.kind == "pre":
+                out.append(f"<details><summary>{e(b.text)}</summary><pre>{e(chr(10).join(b.lines))}</pre></details>")
+        out.append("</body></html>")
+        return "\n".join(out) + "\n"
+
+    def to_markdown(self, figure_files=None) -> str:
+        figure_files = figure_files or {}
+        out = [f"# {_md(self.title)}", ""]
+        for b in self.blocks:
+            if b.kind == "heading":
+                out += ["#" * b.level + " " + _md(b.text), ""]
+            elif b.kind == "para":
+                out += [_md(b.text), ""]
+            elif b.kind == "caution":
+                out.append(f"> **⚠ {_md(b.text)}**")
+                out.append(">")
+                out += [f"> * {_md(x)}" for x in b.lines]
+                out.append("")
+            elif b.kind == "table":
+                if b.text:
+                    out += [f"*{_md(b.text)}*", ""]
+                out.append("| " + " | ".join(_cell(h) for h in b.header) + " |")
+                out.append("|" + "---|" * len(b.header))
+                out += ["| " + " | ".join(_cell(c) for c in r) + " |" for r in b.rows]
+                out.append("")
+            elif b.kind == "figure":
+                out += [f"![{_md(b.text)}]({figure_files.get(b.name, b.name + '.png')})", "", f"*{_md(b.text)}*", ""]
+            elif b.kind == "pre":
+                out += [f"**{_md(b.text)}**", "", "```text", *b.lines, "```", ""]
+        return "\n".join(out).rstrip() + "\n"
+
+
+_CSS = """
+body{font-family:system-ui,-apple-system,"Segoe UI",Helvetica,Arial,sans-serif;max-width:1100px;margin:1.5em auto;
+padding:0 1em;color:#1d1d1d;line-height:1.4}
+h1{font-size:1.6em;border-bottom:2px solid #444;padding-bottom:.2em}
+h2{font-size:1.25em;margin-top:1.6em;border-bottom:1px solid #bbb}
+table{border-collapse:collapse;margin:.6em 0 1em 0;font-size:.92em}
+caption{text-align:left;font-style:italic;padding:.2em 0}
+th,td{border:1px solid #bbb;padding:.25em .6em;text-align:left;vertical-align:top}
+th{background:#eee}
+tbody tr:nth-child(even){background:#fafafa}
+.box{border:3px solid #b36b00;background:#fff4e0;padding:.4em 1em;margin:1em 0;border-radius:4px}
+.box.limits{border-color:#b00020;background:#ffe9ec}
+.box.ok{border-color:#2e7d32;background:#eef7ee}
+.boxtitle{font-weight:bold;margin:.3em 0}
+figure{margin:1em 0}
+figure img{max-width:100%;border:1px solid #ccc}
+figcaption{font-size:.9em;color:#444}
+pre{font-size:.8em;background:#f6f6f6;padding:.6em;overflow-x:auto}
+"""
+
+
+def _md(text):
+    return str(text).replace("\n", " ")
+
+
+def _cell(text):
+    return _md(text).replace("|", "\\|")
+
+
+# --------------------------------------------------------------------------
+# formatting
+# --------------------------------------------------------------------------
+class _Fmt:
+    """Numbers in the scenario's units and digits (engineering: bar, °C, L, kg)."""
+
+    def __init__(self, scenario):
+        out = scenario.output
+        self.digits = int(out.digits) if out is not None else 6
+        self.si = out is not None and out.units == "SI"
+
+    def q(self, value, kind):
+        from .units import format_quantity
+
+        if value is None:
+            return "—"
+        if isinstance(value, float) and not math.isfinite(value):
+            return "n/a"
+        if self.si:
+            unit = {"pressure": "Pa", "temperature": "K", "volume": "m**3", "mass": "kg", "time": "s",
+                    "density": "kg/m**3", "length": "m", "mass_flow": "kg/s", "pressure_rate": "Pa/s"}.get(kind)
+            return format_quantity(value, kind, unit=unit, digits=self.digits)
+        return format_quantity(value, kind, digits=self.digits)
+
+    def T(self, value):
+        """Temperature with both °C and K (engineering) or K (SI)."""
+        if value is None:
+            return "—"
+        if self.si:
+            return self.q(value, "temperature")
+        return f"{self.q(value, 'temperature')} ({self.n(value)} K)"
+
+    def n(self, value, digits=None):
+        from .units import format_number
+
+        if value is None:
+            return "—"
+        return format_number(value, digits or self.digits)
+
+    def energy(self, value):
+        return f"{self.n(value / 1e3)} kJ"
+
+
+def _comp_text(comp):
+    if not comp:
+        return "—"
+    if len(comp) == 1:
+        return next(iter(comp))
+    return ", ".join(f"{k} {v:.6g}" for k, v in comp.items())
+
+
+# --------------------------------------------------------------------------
+# the report's sections
+# --------------------------------------------------------------------------
+_STOP_WORDS = {
+    "target_pressure": ("the pressure reaches {}", "pressure"),
+    "target_mass": ("the vessel holds {}", "mass"),
+    "target_settled_pressure": ("the content, cooled to the settled temperature, would be at {}", "pressure"),
+    "target_fill_density": ("the filling density (mass/volume) reaches {}", "density"),
+}
+
+
+def _stop_words(scenario, fmt):
+    s = scenario.stop
+    parts = []
+    for key, (words, kind) in _STOP_WORDS.items():
+        val = getattr(s, key)
+        if val is not None:
+            if kind == "density":
+                parts.append(words.format(f"{fmt.n(val / 1e3)} kg/L"))
+            else:
+                parts.append(words.format(fmt.q(val, kind)))
+    if s.supply_pressure:
+        parts.append("the vessel reaches the supply (or last bank) pressure")
+    if s.temperature_limit is not None:
+        word = "falls to" if scenario.kind in ("vent", "transient_vent") else "rises to"
+        parts.append(f"the gas temperature {word} {fmt.q(s.temperature_limit, 'temperature')}")
+    if not parts and scenario.transient is not None:
+        parts.append(f"{fmt.q(scenario.transient.duration, 'time')} have passed")
+    return " or ".join(parts)
+
+
+def job_paragraph(scenario, fmt=None):
+    """The job stated in one paragraph of plain words."""
+    fmt = fmt or _Fmt(scenario)
+    sc = scenario
+    v = sc.vessel
+    fs = sc.fluid_spec
+    vessel = f"a rigid vessel{' (' + v.name + ')' if v.name else ''} of {fmt.q(v.volume, 'volume')}"
+    if v.wall_mass is not None and v.wall_specific_heat is not None:
+        vessel += (f" whose wall ({fmt.q(v.wall_mass, 'mass')}, {fmt.n(v.wall_specific_heat)} J/(kg K)) "
+                   "exchanges heat with the gas")
+    ini = sc.initial
+    if ini.empty:
+        holds = "is empty (evacuated)"
+    else:
+        comp = _comp_text(ini.composition or fs.composition)
+        amount = fmt.q(ini.pressure, "pressure") if ini.pressure is not None else fmt.q(ini.mass, "mass")
+        holds = f"holds {comp} at {fmt.q(ini.temperature, 'temperature')} and {amount}"
+    kind = sc.kind
+    time_resolved = kind.startswith("transient")
+    if kind in ("vent", "transient_vent"):
+        what = "is vented"
+        if sc.transient is not None:
+            what += (f" through a {sc.transient.restriction.type.replace('_', ' ')} to "
+                     f"{fmt.q(sc.transient.back_pressure or sc.ambient.pressure, 'pressure')}")
+    elif sc.supply is not None:
+        what = (f"is filled from a supply of {_comp_text(sc.supply.composition or fs.composition)} at "
+                f"{fmt.q(sc.supply.temperature, 'temperature')} and {fmt.q(sc.supply.pressure, 'pressure')}")
+        if kind == "liquefied_fill":
+            what += " (a liquefied gas: the content may be two-phase)"
+    else:
+        banks = "; ".join(f"{b.name or i + 1}: {fmt.q(b.volume, 'volume')} at {fmt.q(b.pressure, 'pressure')}, "
+                          f"{fmt.q(b.temperature, 'temperature')}" for i, b in enumerate(sc.banks))
+        what = (f"is filled from {len(sc.banks)} storage bank{'s' if len(sc.banks) > 1 else ''} used in turn "
+                f"({banks}), switching when a bank leads the vessel by "
+                f"{fmt.q(sc.cascade.switch_pressure_difference, 'pressure')}")
+    if time_resolved and kind == "transient_fill" and sc.transient is not None:
+        what += f" through a {sc.transient.restriction.type.replace('_', ' ')}"
+    model = {"PR": "Peng–Robinson (1976)", "PR78": "Peng–Robinson (1978 κ)", "SRK": "Soave–Redlich–Kwong (1972)"}
+    how = ("followed in time" if time_resolved else "computed as an end state from the mass and energy balances "
+           "(no time involved)")
+    return (f"{vessel[0].upper() + vessel[1:]} {holds}. It {what}, until {_stop_words(sc, fmt)}. "
+            f"The run is {how}, with the {model.get(fs.model, fs.model)} equation of state"
+            + (f" (title: {sc.title})." if sc.title else "."))
+
+
+_INPUT_KINDS = {
+    "volume": "volume", "wall_mass": "mass", "mass": "mass", "wall_specific_heat": "specific_heat",
+    "internal_area": "area", "external_area": "area", "working_pressure": "pressure",
+    "working_temperature": "temperature", "temperature": "temperature", "pressure": "pressure",
+    "wall_temperature": "temperature", "target_pressure": "pressure", "target_mass": "mass",
+    "target_settled_pressure": "pressure", "settled_temperature": "temperature",
+    "target_fill_density": "density", "temperature_limit": "temperature",
+    "max_gas_temperature": "temperature", "min_gas_temperature": "temperature",
+    "max_wall_temperature": "temperature", "min_wall_temperature": "temperature", "max_pressure": "pressure",
+    "max_fill_density": "density", "switch_pressure_difference": "pressure", "duration": "time",
+    "output_interval": "time", "back_pressure": "pressure", "diameter": "length", "mass_flow": "mass_flow",
+    "rate": "pressure_rate", "inner_coefficient": "heat_transfer_coefficient",
+    "outer_coefficient": "heat_transfer_coefficient",
+}
+
+
+def _input_value(fmt, key, value):
+    if value is None:
+        return None
+    if key in ("composition",) and isinstance(value, dict):
+        return _comp_text(value) + (" (mole fractions)" if len(value) > 1 else "")
+    kind = _INPUT_KINDS.get(key)
+    if kind == "temperature":
+        return fmt.T(value)
+    if kind == "switch_pressure_difference" or key == "switch_pressure_difference":
+        return fmt.q(value, "pressure")
+    if kind == "density":
+        return f"{fmt.n(value)} kg/m³ ({fmt.n(value / 1e3)} kg/L)"
+    if kind is not None:
+        return fmt.q(value, kind)
+    if isinstance(value, float):
+        return fmt.n(value)
+    return str(value)
+
+
+def input_rows(scenario, fmt=None):
+    """(key path, value with unit) for every input given or defaulted, from the Scenario (SI inside)."""
+    from dataclasses import fields
+
+    fmt = fmt or _Fmt(scenario)
+    sc = scenario
+    rows = [("kind", sc.kind)]
+    if sc.title:
+        rows.append(("title", sc.title))
+    fs = sc.fluid_spec
+    rows += [("fluid.composition", _input_value(fmt, "composition", fs.composition)), ("fluid.model", fs.model),
+             ("fluid.volume_shift", fs.volume_shift)]
+    for k in fs.kij:
+        rows.append((f"fluid.kij[{k.pair[0]}, {k.pair[1]}]", fmt.n(k.kij)))
+
+    def section(name, obj, skip=()):
+        if obj is None:
+            return
+        for f in fields(obj):
+            if f.name in skip or f.name.startswith("_"):
+                continue
+            val = getattr(obj, f.name)
+            if val is None or val == "" or val is False:
+                continue
+            if isinstance(val, (list, tuple)) and not val:
+                continue
+            shown = _input_value(fmt, f.name, val)
+            if shown is not None:
+                rows.append((f"{name}.{f.name}", shown))
+
+    section("vessel", sc.vessel)
+    section("initial", sc.initial)
+    section("supply", sc.supply)
+    for i, b in enumerate(sc.banks):
+        section(f"banks[{i + 1}]", b)
+    if sc.kind == "cascade_fill" or sc.banks:
+        section("cascade", sc.cascade)
+    section("stop", sc.stop, skip=("settled_temperature",) if sc.kind in ("vent", "transient_vent") else ())
+    section("ambient", sc.ambient)
+    section("limits", sc.limits)
+    if sc.transient is not None:
+        section("transient", sc.transient, skip=("restriction", "heat_transfer", "output_times"))
+        section("transient.restriction", sc.transient.restriction)
+        section("transient.heat_transfer", sc.transient.heat_transfer)
+    return rows
+
+
+@functools.lru_cache(maxsize=1)
+def _source_citations():
+    """{key: citation} from data/SOURCES.md (empty if the file is not found)."""
+    from .components import data_dir
+
+    out = {}
+    for cand in (Path(data_dir()) / "SOURCES.md", Path(data_dir()).parent / "SOURCES.md"):
+        if cand.is_file():
+            for line in cand.read_text(encoding="utf-8").splitlines():
+                m = re.match(r"^\|\s*([^|]+?)\s*\|\s*(.+?)\s*\|\s*$", line)
+                if m and m.group(1) not in ("key", "---"):
+                    out[m.group(1)] = m.group(2)
+            break
+    return out
+
+
+def _cite(key):
+    cit = _source_citations()
+    k = str(key)
+    if k in cit:
+        return cit[k]
+    if k.startswith("fit:"):
+        base = cit.get(k[4:], "")
+        return f"fit of the Poling polynomial to the reference equation {k[4:]}" + (f": {base}" if base else "")
+    return ""
+
+
+def source_blocks(rep, scenario, fmt):
+    fluid = scenario.fluid()
+    model = fluid.model
+    rep.heading("Model and data sources")
+    rep.para(f"Equation of state: {model.name} — {model.citation}. Mixing: van der Waals one-fluid rule with "
+             "binary interaction parameters k_ij (Michelsen & Mollerup 2007, ch. 3). Ideal-gas heat capacity: "
+             "Poling, Prausnitz & O'Connell (2001) polynomial form.")
+    rep.para(REFERENCE_STATE)
+    rows = []
+    keys = []
+    for c in fluid.components:
+        rows.append([c.name, f"{c.Tc:.6g}", f"{c.Pc / 1e5:.6g}", f"{c.omega:.5g}", f"{c.M * 1e3:.6g}",
+                     c.crit_source, c.cp_source, f"{c.cp_Tmin:g}–{c.cp_Tmax:g}"])
+        keys += [c.crit_source, c.cp_source]
+    rep.table(["component", "Tc K", "Pc bar", "ω", "M g/mol", "critical data", "Cp° data", "Cp° range K"], rows,
+              "Component constants and the keys of their sources")
+    if fluid.nc > 1:
+        krows = []
+        for i in range(fluid.nc):
+            for j in range(i + 1, fluid.nc):
+                a, b = fluid.names[i], fluid.names[j]
+                src = fluid.kij_sources.get((a, b), fluid.kij_sources.get((b, a), ""))
+                krows.append([f"{a} – {b}", fmt.n(float(fluid.kij[i, j])), src])
+                keys.append(src.split(" ")[0])
+        rep.table(["pair", "k_ij", "source"], krows, f"Binary interaction parameters ({model.name})")
+    crows = []
+    for k in dict.fromkeys(keys):
+        cit = _cite(k)
+        if cit:
+            crows.append([k, cit])
+    if crows:
+        rep.table(["key", "citation"], crows, "Citations of the data keys (data/SOURCES.md)")
+
+
+def _state_rows(fmt, states, V):
+    """Rows of a side-by-side table of EndStates (label, state)."""
+    rows = [["temperature"] + [fmt.T(s.T) for _, s in states],
+            ["pressure"] + [fmt.q(s.P, "pressure") for _, s in states],
+            ["mass"] + [fmt.q(s.mass, "mass") for _, s in states],
+            ["amount"] + [f"{fmt.n(s.n)} mol" for _, s in states],
+            ["density (mass / vessel volume)"] + [f"{fmt.n(s.mass / V)} kg/m³" for _, s in states],
+            ["phase"] + [s.phase for _, s in states]]
+    if any(s.wall_temperature is not None for _, s in states):
+        rows.append(["wall temperature"] + [fmt.T(s.wall_temperature) for _, s in states])
+    if any(len(s.composition) > 1 for _, s in states):
+        rows.append(["composition (mole fractions)"] + [_comp_text(s.composition) for _, s in states])
+    if any(s.phase == "two-phase" for _, s in states):
+        rows += [["liquid mass"] + [fmt.q(s.liquid_mass, "mass") for _, s in states],
+                 ["vapour mass"] + [fmt.q(s.vapour_mass, "mass") for _, s in states],
+                 ["liquid volume fraction"] + [fmt.n(s.liquid_volume_fraction, 4) for _, s in states]]
+    return rows
+
+
+def result_blocks(rep, scenario, result, fmt):
+    from .vessel import Result
+
+    rep.heading("Results")
+    if not isinstance(result, Result):
+        return _transient_blocks(rep, scenario, result, fmt)
+    r = result
+    stop = f"Stopped by: {r.stop}"
+    if r.stop != r.stop_requested:
+        stop += f" (asked: {r.stop_requested}, {'met' if r.stop_met else 'NOT MET'})"
+    rep.para(stop + ".")
+    states = ([("initial", r.initial)] if r.initial is not None else []) + [("final", r.final)]
+    rep.table(["", *[k for k, _ in states]], _state_rows(fmt, states, r.volume),
+              "Vessel content at the start and at the end" + ("" if r.initial is not None else
+                                                               " (the vessel starts empty)"))
+    if r.supply:
+        rep.para(f"Supply: {fmt.T(r.supply['T'])}, {fmt.q(r.supply['P'], 'pressure')}, phase "
+                 f"{r.supply['phase']}, molar enthalpy {fmt.n(r.supply['h'])} J/mol (it enters with this "
+                 "enthalpy: a throttle or regulator is isenthalpic).")
+    if r.settled is not None:
+        s = r.settled
+        rows = [["settled temperature", fmt.T(s.T)], ["settled pressure", fmt.q(s.P, "pressure")],
+                ["phase when settled", s.phase]]
+        if s.nominal_pressure is not None:
+            rows += [["nominal (working) pressure", fmt.q(s.nominal_pressure, "pressure")],
+                     ["mass of a fill to the nominal pressure at the settled temperature", fmt.q(s.nominal_mass, "mass")],
+                     ["short fill (that mass minus the mass held)", fmt.q(s.short_fill, "mass")]]
+        if s.state_of_charge is not None:
+            rows.append([f"state of charge (density relative to {fmt.q(s.nominal_pressure, 'pressure')} at "
+                         f"{fmt.q(s.nominal_temperature, 'temperature')})", f"{100 * s.state_of_charge:.4g} %"])
+        rep.table(["settled state (same content, constant volume)", "value"], rows,
+                  "Settled state, short fill and state of charge (V7)")
+    if r.liquefied:
+        q = r.liquefied
+        rows = [["filling density", f"{fmt.n(q['fill_density'] / 1e3)} kg/L"],
+                ["liquid mass", fmt.q(q.get("liquid_mass"), "mass")],
+                ["vapour mass", fmt.q(q.get("vapour_mass"), "mass")],
+                ["liquid volume fraction", fmt.n(q.get("liquid_volume_fraction"), 4)
+                 if q.get("liquid_volume_fraction") is not None else "—"]]
+        if q.get("liquid_full_T") is not None:
+            rows.append(["liquid-full (hydraulically full) on warming at", fmt.T(q["liquid_full_T"])])
+        elif q.get("dry_T") is not None:
+            rows.append(["never liquid-full on warming: the liquid is gone at", fmt.T(q["dry_T"])])
+        else:
+            rows.append(["on warming", q.get("liquid_full_note", "")])
+        if q.get("default_max_fill_density") is not None:
+            rows.append(["default filling-density limit (to confirm)", f"{fmt.n(q['default_max_fill_density'] / 1e3)} kg/L"])
+        rep.table(["liquefied gas", "value"], rows, "Liquefied-gas figures")
+        for line in q.get("defaults", []):
+            rep.para(line)
+    if r.stages:
+        rows = []
+        for st in r.stages:
+            rows.append([st["bank"], st["reason"], fmt.q(st["mass_drawn"], "mass"), fmt.T(st["bank_T"]),
+                         fmt.q(st["bank_P"], "pressure"), fmt.T(st["vessel_T"]), fmt.q(st["vessel_P"], "pressure"),
+                         fmt.q(st["vessel_mass"], "mass")])
+        rep.table(["bank", "ended", "mass delivered", "bank temperature after", "bank pressure after",
+                   "vessel temperature after", "vessel pressure after", "vessel mass after"], rows,
+                  "Cascade: each bank in turn (V6)")
+    if r.comparison:
+        c = r.comparison
+        rep.para(f"The same fill from one bank instead ({c['description']}): vessel {fmt.T(c['T'])}, "
+                 f"{fmt.q(c['P'], 'pressure')}, {fmt.q(c['mass'], 'mass')}; stopped by {c['stop']}; the bank ends "
+                 f"at {fmt.q(c['bank_P'], 'pressure')}.")
+    if r.vent:
+        v = r.vent
+        rows = [["mass let out", fmt.q(v["mass_out"], "mass")],
+                ["lowest gas temperature (a safety figure for the vessel's material)", fmt.T(v["min_T"])],
+                ["liquid formed", "yes, first at " + fmt.q(v["dew_P"], "pressure") if v["liquid_formed"] else "no"]]
+        rep.table(["vent", "value"], rows, "Vent")
+    for n in r.notes:
+        rep.para("Model choice: " + n + ".")
+
+
+def _transient_blocks(rep, scenario, r, fmt):
+    rep.para(f"Time-resolved {r.kind}: {'complete' if r.complete else 'INCOMPLETE (integration stopped early)'}; "
+             f"stop: {r.stop_reason}; duration {fmt.q(float(r.t[-1]), 'time')}.")
+    rows = [["pressure", fmt.q(float(r.P[0]), "pressure"), fmt.q(float(r.P[-1]), "pressure")],
+            ["gas temperature", fmt.T(float(r.T_gas[0])), fmt.T(float(r.T_gas[-1]))],
+            ["mass", fmt.q(float(r.mass[0]), "mass"), fmt.q(float(r.mass[-1]), "mass")]]
+    if np.isfinite(r.T_wall_inner).any():
+        rows.append(["inner wall temperature", fmt.T(float(r.T_wall_inner[0])), fmt.T(float(r.T_wall_inner[-1]))])
+        rows.append(["outer wall temperature", fmt.T(float(r.T_wall_outer[0])), fmt.T(float(r.T_wall_outer[-1]))])
+    rows.append(["phase", str(r.phase[0]), str(r.phase[-1])])
+    rep.table(["", "start", "end"], rows, "Vessel content at the start and at the end")
+    prow = []
+    for name, label in (("P", "pressure"), ("T_gas", "gas temperature"), ("T_wall_inner", "inner wall temperature"),
+                        ("T_wall_outer", "outer wall temperature")):
+        hi, thi = r.peak(name, "max")
+        lo, tlo = r.peak(name, "min")
+        if not math.isfinite(hi):
+            continue
+        f = (lambda x: fmt.q(x, "pressure")) if name == "P" else fmt.T
+        prow.append([label, f(hi), fmt.q(thi, "time"), f(lo), fmt.q(tlo, "time")])
+    rep.table(["series", "highest", "at", "lowest", "at"], prow, "Peaks over the run")
+    if r.liquid_appeared:
+        rep.para("A liquid phase appears during the run (homogeneous equilibrium assumed).")
+
+
+def balance_blocks(rep, scenario, result, fmt, trace_lines=None):
+    from .vessel import Result
+
+    rep.heading("Energy and mass balance")
+    if not isinstance(result, Result):
+        m0, m1 = float(result.mass[0]), float(result.mass[-1])
+        rows = [["initial mass m_0", fmt.q(m0, "mass")], ["mass in", fmt.q(result.mass_in, "mass")],
+                ["mass out", fmt.q(result.mass_out, "mass")],
+                ["m_0 + in - out", fmt.q(m0 + result.mass_in - result.mass_out, "mass")],
+                ["final mass", fmt.q(m1, "mass")],
+                ["heat from the surroundings", fmt.energy(result.heat_from_ambient)],
+                ["mass closure (relative, largest over the run)", f"{result.mass_closure:.3e}"],
+                ["energy closure (relative, largest over the run, (T3))", f"{result.energy_closure:.3e}"]]
+        rep.table(["term", "value"], rows, "Balances of the time-resolved run (T3)")
+        return
+    r = result
+    e = r.energy
+    rows = []
+    if trace_lines:
+        from .trace import trace_value
+
+        keys = [("nf_uf", "n_f u_f (final internal energy)"), ("n0_u0", "n_0 u_0 (initial internal energy)"),
+                ("wall", "C_w (T_f − T_w0) (taken up by the wall)"), ("H_in", "enthalpy brought in"),
+                ("H_out", "enthalpy let out H_out"), ("Q", "heat added Q"), ("lhs", "left side"),
+                ("rhs", "right side"), ("residual", "left − right")]
+        for k, label in keys:
+            try:
+                val = trace_value(trace_lines, k)
+            except KeyError:
+                continue
+            rows.append([label, f"{val:.10g} J"])
+        eq = ("n_f u_f − n_0 u_0 + C_w (T_f − T_0) = −H_out   (V4)/(V5)" if r.kind == "vent" else
+              "n_f u_f − n_0 u_0 + C_w (T_f − T_w0) = Σ_k H_k + Q   (V2), (V6)" if r.kind == "cascade_fill" else
+              "n_f u_f − n_0 u_0 + C_w (T_f − T_w0) = (n_f − n_0) h_in + Q   (V2)")
+        rep.para("Energy balance of the vessel: " + eq + ". Each term recomputed from the result's end "
+                 "states (the full substitution is in the calculation trace at the end).")
+    else:
+        for k, v in e.items():
+            rows.append([k, f"{v:.10g}"])
+    rows.append(["energy closure (relative to n R T, from the solver)", f"{r.energy_closure:.3e}"])
+    rows.append(["mass closure (relative)", f"{r.mass_closure:.3e}"])
+    rep.table(["term", "value"], rows, "Energy and mass balance closure")
+
+
+def _limits_checked(scenario):
+    from dataclasses import asdict
+
+    return {k: v for k, v in asdict(scenario.limits).items() if v is not None}
+
+
+def limit_blocks(rep, scenario, result, fmt):
+    rep.heading("Limits")
+    lim = _limits_checked(scenario)
+    checked = []
+    for k, v in lim.items():
+        kind = _INPUT_KINDS.get(k)
+        checked.append(f"{k} = {_input_value(fmt, k, v) if kind else fmt.n(v)}")
+    flags = list(result.flags)
+    if flags:
+        rep.caution(f"{len(flags)} limit{'s' if len(flags) > 1 else ''} or warning{'s' if len(flags) > 1 else ''} "
+                    "PASSED", flags, tone="limits")
+    else:
+        rep.caution("No limit passed", ["none of the limits checked was passed"], tone="ok")
+    rep.para("Limits checked: " + ("; ".join(checked) if checked else "none given") + ". The −40 °C / 85 °C gas "
+             "temperature defaults are common values (from memory), not what any vessel is approved for; give "
+             "the vessel's own limits.")
+
+
+# --------------------------------------------------------------------------
+# paths and plots
+# --------------------------------------------------------------------------
+def _z_vec(fluid, comp):
+    z = np.zeros(fluid.nc)
+    for k, x in (comp or {}).items():
+        z[fluid.names.index(k)] = x
+    return z
+
+
+def _props(fluid, z, T, v):
+    """(s, h) per kg of composition z at (T, v), or None if the state fails."""
+    f = fluid.with_composition(z)
+    M = float(z @ fluid.molar_masses)
+    try:
+        with np.errstate(invalid="ignore", divide="ignore"):
+            st = f.state(T=float(T), v=float(v))
+        return float(np.asarray(st.s)) / M, float(np.asarray(st.h)) / M
+    except EosfillError:
+        return None
+
+
+def path_states(scenario, result, max_points=40):
+    """States the content passes through, for the diagram.
+
+    Returns dict with ``path`` (list of dict T [K], P [Pa], s [J/(kg K)],
+    h [J/kg], label), ``joined`` (True when only end points are known and the
+    line between them is not the path), ``others`` (supply or bank states:
+    lists of such dicts with a ``label``), and ``z_final`` (mole fractions).
+    """
+    from .vessel import Result
+
+    fluid = scenario.fluid()
+    V = scenario.vessel.volume
+    pts, others, joined = [], [], False
+
+    def add(target, z, T, P, n, label=""):
+        if n <= 0:
+            return
+        sh = _props(fluid, z, T, V / n)
+        if sh is not None:
+            target.append(dict(T=float(T), P=float(P), s=sh[0], h=sh[1], label=label))
+
+    def add_TP(target, z, T, P, label):
+        f = fluid.with_composition(z)
+        M = float(z @ fluid.molar_masses)
+        try:
+            with np.errstate(invalid="ignore", divide="ignore"):
+                st = f.state(T=float(T), P=float(P))
+            target.append(dict(T=float(T), P=float(P), s=float(st.s) / M, h=float(st.h) / M, label=label))
+        except EosfillError:
+            pass
+
+    if isinstance(result, Result):
+        r = result
+        z_f = _z_vec(fluid, r.final.composition)
+        z0 = _z_vec(fluid, r.initial.composition) if r.initial is not None else None
+        n0 = r.initial.n if r.initial is not None else 0.0
+        m0 = r.initial.mass if r.initial is not None else 0.0
+        if r.kind in ("fill", "liquefied_fill"):
+            z_in = _z_vec(fluid, r.supply["composition"])
+            M_in = float(z_in @ fluid.molar_masses)
+            if r.initial is not None:
+                add(pts, z0, r.initial.T, r.initial.P, n0, "initial")
+            for p in r.curve:
+                n = n0 + (p["mass"] - m0) / M_in
+                if r.initial is None and p["P"] < 0.02 * r.final.P:
+                    continue  # the first gas in an evacuated vessel: near vacuum, off the chart
+                z = (n0 * z0 + (n - n0) * z_in) / n if z0 is not None else z_in
+                add(pts, z, p["T"], p["P"], n)
+            add(pts, z_f, r.final.T, r.final.P, r.final.n, "final")
+            add_TP(others, z_in, r.supply["T"], r.supply["P"], "supply")
+        elif r.kind == "cascade_fill":
+            joined = True
+            if r.initial is not None:
+                add(pts, z0, r.initial.T, r.initial.P, n0, "initial")
+            n, nz = n0, (n0 * z0 if z0 is not None else np.zeros(fluid.nc))
+            for st, b in zip(r.stages, scenario.banks):
+                zb = _z_vec(fluid, st["bank_composition"])
+                add_TP(others, zb, b.temperature, b.pressure, f"bank {st['bank']} start")
+                if st["moles_drawn"] <= 0:
+                    continue
+                add_TP(others, zb, st["bank_T"], st["bank_P"], f"bank {st['bank']} end")
+                n += st["moles_drawn"]
+                nz = nz + st["moles_drawn"] * zb
+                add(pts, nz / n, st["vessel_T"], st["vessel_P"], n, f"after bank {st['bank']}")
+        else:  # vent: one composition
+            M = float(z0 @ fluid.molar_masses)
+            for p in r.curve:
+                add(pts, z0, p["T"], p["P"], p["mass"] / M)
+            if pts:
+                pts[0]["label"] = "initial"
+            add(pts, z_f, r.final.T, r.final.P, r.final.n, "final")
+        return dict(path=pts, joined=joined, others=others, z_final=z_f)
+
+    # time-resolved
+    r = result
+    sc = scenario
+    z0 = sc.mole_fractions(sc.initial.composition) if not sc.initial.empty else None
+    if sc.kind == "transient_vent":
+        z_in = None
+    elif sc.supply is not None:
+        z_in = sc.mole_fractions(sc.supply.composition)
+    else:
+        zs = [sc.mole_fractions(b.composition) for b in sc.banks]
+        z_in = zs[0] if all(np.allclose(z, zs[0]) for z in zs) else None
+        if z_in is None:
+            return dict(path=[], joined=False, others=[], z_final=None,
+                        note="banks of different compositions: the path is not drawn")
+    if z0 is None:
+        z0 = z_in
+    M0 = float(z0 @ fluid.molar_masses)
+    m0 = float(r.mass[0])
+    n0 = m0 / M0
+    idx = np.unique(np.linspace(0, r.t.size - 1, min(max_points, r.t.size)).round().astype(int))
+    z = z0
+    for i in idx:
+        m = float(r.mass[i])
+        if z_in is not None:
+            M_in = float(z_in @ fluid.molar_masses)
+            n = n0 + (m - m0) / M_in
+            z = (n0 * z0 + (n - n0) * z_in) / n
+        else:
+            n = m / M0
+        add(pts, z, r.T_gas[i], r.P[i], n, "initial" if i == 0 else ("final" if i == idx[-1] else ""))
+    if z_in is not None and sc.supply is not None:
+        add_TP(others, z_in, sc.supply.temperature, sc.supply.pressure, "supply")
+    return dict(path=pts, joined=False, others=others, z_final=z)
+
+
+@functools.lru_cache(maxsize=16)
+def _dome_cached(names, z, model, kij, shift):
+    """Two-phase boundary (T [K], s [J/(kg K)]) lines: pure saturation curve or bubble/dew curves."""
+    from . import equilibrium
+    from .fluid import Fluid
+
+    comp = {n: x for n, x in zip(names, z) if x > 0}
+    kd = {}
+    for i in range(len(names)):
+        for j in range(i + 1, len(names)):
+            kd[(names[i], names[j])] = kij[i * len(names) + j]
+    f = Fluid(comp, model=model, kij={k: v for k, v in kd.items() if k[0] in comp and k[1] in comp} or None,
+              normalise=True)
+    M = f.molar_mass
+    lines = {}
+    with np.errstate(invalid="ignore", divide="ignore"):
+        if f.nc == 1:
+            Tc, Pc = f.critical_point_pure()
+            T = Tc * (1.0 - np.geomspace(2e-4, 0.45, 40))[::-1]
+            sat = equilibrium.saturation_pressure(T, f.params, raise_on_fail=False)
+            P = np.asarray(sat["P"])
+            ok = np.isfinite(P) & (P > 0)
+            T, P = T[ok], P[ok]
+            sL = np.asarray(f.single_phase(T, P, which="liquid").s) / M
+            sV = np.asarray(f.single_phase(T, P, which="vapour").s) / M
+            sc = float(np.asarray(f.single_phase(Tc, Pc).s)) / M
+            lines["saturated liquid"] = (np.append(T, Tc), np.append(sL, sc))
+            lines["saturated vapour"] = (np.append(T, Tc), np.append(sV, sc))
+            lines["critical point"] = (np.array([Tc]), np.array([sc]))
+        else:
+            env = equilibrium.phase_envelope(f.mole_fractions, f.params, n=10)  # a few seconds; enough for a drawing
+            for kind, which in (("bubble", "liquid"), ("dew", "vapour")):
+                P, T, _ = env[kind]
+                if len(P):
+                    s = np.asarray(f.single_phase(np.asarray(T), np.asarray(P), which=which).s) / M
+                    lines[f"{kind} curve"] = (np.asarray(T), s)
+    return lines
+
+
+def dome_lines(fluid, z):
+    """Two-phase boundary of composition z on T-s axes (cached per composition)."""
+    z = np.asarray(z, dtype=float)
+    keep = z > 1e-12
+    names = tuple(n for n, k in zip(fluid.names, keep) if k)
+    zz = tuple(round(float(x), 12) for x in z[keep])
+    idx = np.flatnonzero(keep)
+    kij = tuple(float(fluid.kij[i, j]) for i in idx for j in idx)
+    return _dome_cached(names, zz, fluid.model.name, kij, 0.0)
+
+
+def _figure(w=8.0, h=4.6):
+    require_matplotlib()
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(w, h), dpi=100)
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def _png(fig):
+    buf = io.BytesIO()
+    fig.tight_layout()
+    fig.savefig(buf, format="png", dpi=100)
+    return buf.getvalue()
+
+
+def _C(T):
+    return np.asarray(T, dtype=float) - 273.15
+
+
+def plot_path(scenario, result):
+    """T-s diagram: the content's path, the supply/bank states and the two-phase boundary."""
+    info = path_states(scenario, result)
+    pts = info["path"]
+    if not pts:
+        return None, info.get("note", "no path")
+    fluid = scenario.fluid()
+    try:
+        dome = dome_lines(fluid, info["z_final"])
+    except EosfillError:
+        dome = {}
+    fig = _figure(9.0, 5.2)
+    s = np.array([p["s"] for p in pts]) / 1e3
+    T = _C([p["T"] for p in pts])
+    s_all = list(s) + [o["s"] / 1e3 for o in info["others"]]
+    T_all = list(T) + [float(_C(o["T"])) for o in info["others"]]
+    box = (min(s_all), max(s_all), min(T_all), max(T_all))
+    dome_s = np.concatenate([v[1] for v in dome.values()]) / 1e3 if dome else np.array([])
+    dome_T = _C(np.concatenate([v[0] for v in dome.values()])) if dome else np.array([])
+    full_s = np.concatenate([s_all, dome_s]) if dome_s.size else np.array(s_all)
+    full_T = np.concatenate([T_all, dome_T]) if dome_T.size else np.array(T_all)
+    span = lambda a: (np.nanmax(a) - np.nanmin(a)) or 1.0  # noqa: E731
+    small = dome_s.size and (span(s_all) < 0.25 * span(full_s) or (box[3] - box[2]) < 0.25 * span(full_T))
+    axes = [fig.add_subplot(1, 2, 1), fig.add_subplot(1, 2, 2)] if small else [fig.add_subplot(1, 1, 1)]
+    for k, ax in enumerate(axes):
+        for name, (dT, ds) in dome.items():
+            if name == "critical point":
+                ax.plot(ds / 1e3, _C(dT), "k*", ms=9, label=name)
+            else:
+                ax.plot(ds / 1e3, _C(dT), "-", color="#1f5fa0" if "liquid" in name or "bubble" in name else "#c0392b",
+                        lw=1.4, label=name)
+        ax.plot(s, T, "--" if info["joined"] else "-", color="#222", lw=2.0, marker="o", ms=3.5,
+                label="vessel content" + (" (states joined in order)" if info["joined"] else ""))
+        for p, ss, tt in zip(pts, s, T):
+            if p["label"]:
+                ax.annotate(p["label"], (ss, tt), textcoords="offset points", xytext=(5, 4), fontsize=8)
+        groups = {}
+        for o in info["others"]:
+            groups.setdefault(o["label"].replace(" start", "").replace(" end", ""), []).append(o)
+        shades = ("#1b5e20", "#43a047", "#81c784", "#00695c", "#4db6ac", "#827717")
+        for i, (label, grp) in enumerate(groups.items()):
+            gs = [o["s"] / 1e3 for o in grp]
+            gT = [float(_C(o["T"])) for o in grp]
+            # named in the legend, not on the plot: bank states crowd together
+            ax.plot(gs, gT, "s-", color=shades[i % len(shades)], ms=5, lw=1.2,
+                    label=f"{label} (start → end)" if len(grp) > 1 else label)
+        ax.set_xlabel("specific entropy s  [kJ/(kg K)]")
+        ax.set_ylabel("temperature  [°C]")
+        ax.grid(True, alpha=0.3)
+        if small and k == 1:
+            ds_, dT_ = (box[1] - box[0]) or 0.1, (box[3] - box[2]) or 5.0
+            ax.set_xlim(box[0] - 0.25 * ds_, box[1] + 0.25 * ds_)
+            ax.set_ylim(box[2] - 0.25 * dT_, box[3] + 0.25 * dT_)
+            ax.set_title("close-up of the path", fontsize=10)
+        elif small:
+            ax.set_title("with the two-phase region", fontsize=10)
+    axes[0].legend(fontsize=7, loc="best")
+    where = "of the final composition" if fluid.nc > 1 else "of the fluid"
+    fig.suptitle("Temperature–entropy diagram", fontsize=11)
+    cap = (f"Temperature–entropy diagram: the vessel content's path (black), the two-phase boundary {where} "
+           "(blue: liquid/bubble side, red: vapour/dew side)"
+           + ("; cascade: states after each bank, joined in order (the line between them is not the path); "
+              "green squares: each bank's start and end states (each bank follows its own isentrope)"
+              if info["joined"] else "; green: the supply state (it enters by an isenthalpic throttle)"
+              if info["others"] else "") + ".")
+    if not dome:
+        cap += " The two-phase boundary could not be computed for this composition."
+    elif fluid.nc > 1:
+        cap += (" Bubble and dew curves are drawn where their points converged, pressure by pressure; near the "
+                "critical point they may stop short of meeting.")
+    return _png(fig), cap
+
+
+def plot_time_series(scenario, result):
+    """Three figures of a time-resolved run: pressure, temperatures, mass against time."""
+    r = result
+    t = np.asarray(r.t, dtype=float)
+    lim = scenario.limits
+    out = []
+    fig = _figure(8.0, 3.4)
+    ax = fig.add_subplot(1, 1, 1)
+    ax.plot(t, np.asarray(r.P) / 1e5, color="#1f5fa0", lw=1.8, label="vessel pressure")
+    if lim.max_pressure is not None:
+        ax.axhline(lim.max_pressure / 1e5, color="#b00020", ls="--", lw=1, label="max_pressure limit")
+    ax.set_xlabel("time  [s]")
+    ax.set_ylabel("pressure  [bar]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(fontsize=8)
+    out.append(("pressure", _png(fig), "Vessel pressure against time."))
+    fig = _figure(8.0, 3.4)
+    ax = fig.add_subplot(1, 1, 1)
+    ax.plot(t, _C(r.T_gas), color="#c0392b", lw=1.8, label="gas")
+    if np.isfinite(np.asarray(r.T_wall_inner, dtype=float)).any():
+        ax.plot(t, _C(r.T_wall_inner), color="#555", lw=1.5, label="wall, inner surface")
+        if not np.allclose(r.T_wall_inner, r.T_wall_outer, equal_nan=True):
+            ax.plot(t, _C(r.T_wall_outer), color="#999", lw=1.2, ls=":", label="wall, outer surface")
+    for key, style in (("max_gas_temperature", "--"), ("min_gas_temperature", "--"),
+                       ("max_wall_temperature", "-."), ("min_wall_temperature", "-.")):
+        v = getattr(lim, key)
+        if v is not None:
+            ax.axhline(v - 273.15, color="#b00020", ls=style, lw=1, label=f"{key} limit")
+    ax.set_xlabel("time  [s]")
+    ax.set_ylabel("temperature  [°C]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(fontsize=8)
+    out.append(("temperature", _png(fig), "Gas and wall temperatures against time, with the limits checked (red)."))
+    fig = _figure(8.0, 3.4)
+    ax = fig.add_subplot(1, 1, 1)
+    ax.plot(t, np.asarray(r.mass, dtype=float), color="#2e7d32", lw=1.8, label="mass in the vessel")
+    ax.set_xlabel("time  [s]")
+    ax.set_ylabel("mass  [kg]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(fontsize=8)
+    out.append(("mass", _png(fig), "Mass of gas in the vessel against time."))
+    return out
+
+
+def plot_cascade(scenario, result):
+    """Bars of mass delivered per bank; vessel and bank pressures after each bank."""
+    st = result.stages
+    names = [s["bank"] for s in st]
+    x = np.arange(len(st))
+    fig = _figure(9.0, 3.8)
+    ax = fig.add_subplot(1, 2, 1)
+    ax.bar(x, [s["mass_drawn"] for s in st], color="#1f5fa0")
+    for xi, s in zip(x, st):
+        ax.annotate(f"{s['mass_drawn']:.3g} kg", (xi, s["mass_drawn"]), ha="center", va="bottom", fontsize=8)
+    ax.set_xticks(x, names)
+    ax.set_xlabel("bank")
+    ax.set_ylabel("mass delivered  [kg]")
+    ax.set_title("mass delivered by each bank", fontsize=10)
+    ax.grid(True, axis="y", alpha=0.3)
+    ax2 = fig.add_subplot(1, 2, 2)
+    ax2.plot(x, [s["vessel_P"] / 1e5 for s in st], "o-", color="#222", label="vessel after the bank")
+    ax2.plot(x, [s["bank_P"] / 1e5 for s in st], "s--", color="#2e7d32", label="bank after it is used")
+    ax2.plot(x, [b.pressure / 1e5 for b in scenario.banks[:len(st)]], "^:", color="#888", label="bank at the start")
+    ax2.set_xticks(x, names)
+    ax2.set_xlabel("bank")
+    ax2.set_ylabel("pressure  [bar]")
+    ax2.set_title("pressures after each bank", fontsize=10)
+    ax2.grid(True, alpha=0.3)
+    ax2.legend(fontsize=8)
+    return _png(fig), ("Cascade: mass delivered by each bank (left) and the vessel and bank pressures after each "
+                       "bank (right).")
+
+
+# --------------------------------------------------------------------------
+# the whole report
+# --------------------------------------------------------------------------
+def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
+    """The report's blocks for a scenario and its result (vessel.Result or a time-resolved result)."""
+    from .vessel import Result
+
+    fmt = _Fmt(scenario)
+    title = scenario.title or (scenario.path.stem if scenario.path else "eosfill result")
+    rep = Report(title)
+    rep.caution(CAUTION_TITLE, [CAUTION_TEXT, "Flags below mark limits passed; they do not stop a real fill."])
+    rep.heading("The job")
+    rep.para(job_paragraph(scenario, fmt))
+    if scenario.description:
+        rep.para(scenario.description)
+    limit_blocks(rep, scenario, result, fmt)
+    rep.heading("Inputs")
+    rep.table(["input", "value (SI inside; shown in engineering units)"], input_rows(scenario, fmt),
+              "Inputs as read from the scenario, defaults included")
+    source_blocks(rep, scenario, fmt)
+    result_blocks(rep, scenario, result, fmt)
+    balance_blocks(rep, scenario, result, fmt, trace_lines)
+    if plots:
+        rep.heading("Plots")
+        if not isinstance(result, Result):
+            for name, png, cap in plot_time_series(scenario, result):
+                rep.figure(name, png, cap)
+        png, cap = plot_path(scenario, result)
+        if png is not None:
+            rep.figure("path", png, cap)
+        else:
+            rep.para(f"Temperature–entropy diagram not drawn: {cap}.")
+        if isinstance(result, Result) and result.stages:
+            png, cap = plot_cascade(scenario, result)
+            rep.figure("cascade", png, cap)
+    if trace_lines:
+        from .trace import format_trace
+
+        rep.heading("Calculation trace")
+        rep.para("The balance with every number substituted, then every intermediate value of the end state "
+                 "(equation and source on each line), for an auditor to redo by hand. "
+                 "The same text is printed by: eosfill explain --scenario FILE.")
+        rep.pre("Balance and end-state trace", format_trace(trace_lines))
+    rep.caution(CAUTION_TITLE, [CAUTION_TEXT])
+    return rep
+
+
+def balance_trace(scenario, result):
+    """The balance trace of a steady result (None for time-resolved results or on failure)."""
+    from . import jobs
+    from .trace import trace_fill
+    from .vessel import Result
+
+    if not isinstance(result, Result):
+        return None
+    v = jobs._vessel_of(scenario)
+    return trace_fill(scenario.fluid(), result, v.wall_heat_capacity, v.wall_temperature)
+
+
+def write_report(scenario, result, path, trace=True):
+    """Write ``path`` (HTML, self-contained) and its Markdown twin (same name, ``.md``).
+
+    The Markdown's plots are written beside it as ``<stem>.<plot>.png``.
+    Returns the list of files written.
+    """
+    require_matplotlib()
+    path = Path(path)
+    lines = balance_trace(scenario, result) if trace else None
+    rep = build_report(scenario, result, trace_lines=lines)
+    html_text = rep.to_html()
+    md_path = path.with_suffix(".md")
+    if md_path == path:
+        md_path = path.with_name(path.name + ".md")
+    files = {}
+    for fig in rep.figures:
+        files[fig.name] = f"{path.stem}.{fig.name}.png"
+    md_text = rep.to_markdown(files)
+    written = []
+    for fig in rep.figures:
+        p = path.parent / files[fig.name]
+        p.write_bytes(fig.png)
+        written.append(p)
+    path.write_text(html_text, encoding="utf-8")
+    md_path.write_text(md_text, encoding="utf-8")
+    return [path, md_path, *written]
