@@ -198,6 +198,24 @@ def _explain_scenario(args):
     return EXIT_OK
 
 
+def _progress_bar(scenario):
+    """A tqdm progress bar over simulated time for time-resolved runs, on stderr,
+    only when stderr is a terminal (quiet in pipes, logs and CI)."""
+    if scenario.transient is None or not sys.stderr.isatty():
+        return None, None
+    try:
+        from tqdm import tqdm
+    except ImportError:  # the bar is a convenience; run without it
+        return None, None
+    bar = tqdm(total=float(scenario.transient.duration), unit="s", desc="simulated time", file=sys.stderr,
+               leave=False, bar_format="{desc}: {n:.1f}/{total:.1f} s |{bar}| {elapsed}")
+
+    def progress(t):
+        bar.update(max(0.0, min(float(t), bar.total) - bar.n))
+
+    return bar, progress
+
+
 def _require_report_tools(scenario):
     """A report needs matplotlib: say so before anything is computed or written."""
     if scenario.output.report is None:
@@ -252,7 +270,12 @@ def cmd_run(args):
         return EXIT_SOLVER
     from . import jobs
 
-    result = jobs.run_scenario(scenario)
+    bar, progress = _progress_bar(scenario)
+    try:
+        result = jobs.run_scenario(scenario, progress=progress)
+    finally:
+        if bar is not None:
+            bar.close()
     text = "" if result is None else str(result)
     if text:
         print(text)

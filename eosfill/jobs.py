@@ -71,10 +71,12 @@ def _initial_of(scenario):
     return Stream(_fluid_of(scenario, ini.composition), ini.temperature, P=ini.pressure, mass=ini.mass)
 
 
-def run_scenario(scenario, write=True):
+def run_scenario(scenario, write=True, progress=None):
     """Compute a scenario's result and write its json/csv/report files.
 
-    ``write=False`` computes only (nothing is written).
+    ``write=False`` computes only (nothing is written).  ``progress``: a
+    callable(t [s]) called after each step of a time-resolved run (the
+    command line passes a progress bar).
 
     Returns
     -------
@@ -92,7 +94,7 @@ def run_scenario(scenario, write=True):
                     from dataclasses import replace
 
                     scenario = replace(scenario, output=replace(scenario.output, json=None, csv=None, report=None))
-                result = transient.run_scenario(scenario)  # writes its own json/csv
+                result = transient.run_scenario(scenario, progress=progress)  # writes its own json/csv
                 if write and scenario.output.report is not None:
                     write_report(scenario, result)
                 return result

@@ -113,6 +113,8 @@ class Vessel:
     external_area: float | None = None
     working_pressure: float | None = None
     working_temperature: float = DEFAULT_SETTLED_TEMPERATURE
+    inner_radius: float | None = None
+    wall_layers: list = field(default_factory=list)  # eosfill.heat.Layer, from the inside out
 
 
 @dataclass
@@ -138,6 +140,7 @@ class Supply:
     temperature: float
     pressure: float
     composition: dict | None = None
+    temperature_schedule: list | None = None  # [(t [s], T [K]), ...] for time-resolved fills
 
 
 @dataclass
@@ -651,8 +654,29 @@ def _read_fluid(top, ctx) -> FluidSpec:
 def _read_vessel(top, ctx) -> Vessel:
     sec = top.table("vessel", required=True, what="at least its volume")
     sec.only(("name", "volume", "wall_mass", "wall_specific_heat", "internal_area", "external_area",
-              "working_pressure", "working_temperature"))
-    return Vessel(
+              "working_pressure", "working_temperature", "inner_radius", "wall_layers"))
+    layers = []
+    raw = sec.data.get("wall_layers")
+    if raw is not None:
+        from .heat import Layer
+
+        if not isinstance(raw, list) or not raw or not all(isinstance(b, dict) for b in raw):
+            raise ctx.error("vessel.wall_layers", raw, "expected one or more [[vessel.wall_layers]] tables")
+        for i, item in enumerate(raw):
+            r = _Reader(ctx, item, f"vessel.wall_layers[{i}]")
+            r.only(("name", "thickness", "conductivity", "density", "specific_heat", "cells"))
+            layers.append(Layer(
+                thickness=r.quantity("thickness", "length", required=True, minimum=0.0),
+                conductivity=r.quantity("conductivity", "thermal_conductivity", required=True, minimum=0.0),
+                density=r.quantity("density", "density", required=True, minimum=0.0),
+                specific_heat=r.quantity("specific_heat", "specific_heat", required=True, minimum=0.0),
+                cells=int(r.number("cells", default=4, minimum=1, maximum=50, integer=True)),
+                name=r.string("name", default=""),
+            ))
+        if not sec.has("inner_radius"):
+            raise ctx.error("vessel.inner_radius", None, "missing required key: a layered wall "
+                            "([[vessel.wall_layers]]) needs the vessel's inner radius")
+    vessel = Vessel(
         volume=sec.quantity("volume", "volume", required=True, minimum=0.0, what='the internal volume, e.g. "50 L"'),
         name=sec.string("name", default=""),
         wall_mass=sec.quantity("wall_mass", "mass", minimum=0.0),
@@ -662,7 +686,10 @@ def _read_vessel(top, ctx) -> Vessel:
         working_pressure=sec.quantity("working_pressure", "pressure", minimum=0.0),
         working_temperature=sec.quantity("working_temperature", "temperature",
                                          default=DEFAULT_SETTLED_TEMPERATURE, minimum=0.0),
+        inner_radius=sec.quantity("inner_radius", "length", minimum=0.0),
+        wall_layers=layers,
     )
+    return vessel
 
 
 def _read_initial(top, ctx, kind, ambient) -> Initial:
@@ -697,11 +724,13 @@ def _read_sources(top, ctx, kind):
         if kind in VENT_KINDS or kind == "cascade_fill":
             why = "a vent has no supply" if kind in VENT_KINDS else "a cascade fill draws from [[banks]]"
             raise ctx.error("supply", None, f"not allowed for kind {kind!r}: {why}")
-        sec.only(("temperature", "pressure", "composition"))
+        sec.only(("temperature", "pressure", "composition", "temperature_schedule"))
         supply = Supply(
             temperature=sec.quantity("temperature", "temperature", required=True, minimum=0.0),
             pressure=sec.quantity("pressure", "pressure", required=True, minimum=0.0),
         )
+        if sec.has("temperature_schedule"):
+            supply.temperature_schedule = _read_schedule(ctx, sec.data["temperature_schedule"], kind)
         if sec.has("composition"):
             supply.composition = ctx.composition(sec.data["composition"], "supply.composition")
     raw = top.data.get("banks")
@@ -732,6 +761,27 @@ def _read_sources(top, ctx, kind):
     if kind == "transient_fill" and supply is None and not banks:
         raise ctx.error("supply", None, 'missing required section: kind "transient_fill" needs [supply] or [[banks]]')
     return supply, banks
+
+
+def _read_schedule(ctx, raw, kind):
+    """``supply.temperature_schedule``: the supply temperature changing with time
+    (a precooled supply), rows [time, temperature] with increasing times;
+    linear in between, held after the last row."""
+    key = "supply.temperature_schedule"
+    if kind != "transient_fill":
+        raise ctx.error(key, raw, f'only for kind "transient_fill" (kind is {kind!r})')
+    if not isinstance(raw, list) or not raw or not all(isinstance(r, list) and len(r) == 2 for r in raw):
+        raise ctx.error(key, raw, 'expected rows [time, temperature], e.g. [["0 s", "-20 degC"], ["30 s", "-33 degC"]]')
+    rows = []
+    for i, (t, T) in enumerate(raw):
+        ts = ctx.parse(t, "time", f"{key}[{i}][0]")
+        Ts = ctx.parse(T, "temperature", f"{key}[{i}][1]")
+        if ts < 0.0 or Ts <= 0.0:
+            raise ctx.error(f"{key}[{i}]", [t, T], "out of range: time >= 0 s and temperature > 0 K")
+        if rows and ts <= rows[-1][0]:
+            raise ctx.error(f"{key}[{i}][0]", t, "times must increase from row to row")
+        rows.append((ts, Ts))
+    return rows
 
 
 _STOP_PRIMARY = ("target_pressure", "target_mass", "target_settled_pressure", "target_fill_density",
@@ -870,9 +920,10 @@ def _read_transient(top, ctx, kind, vessel):
                                               minimum=0.0, strict=False)
             ht.outer_coefficient = h.quantity("outer_coefficient", "heat_transfer_coefficient", default=0.0,
                                               minimum=0.0, strict=False)
-            need = ["wall_mass", "wall_specific_heat", "internal_area"]
-            if ht.outer_coefficient > 0.0:
-                need.append("external_area")
+            # a lumped wall needs its mass and specific heat; a layered wall its layers
+            need = ["internal_area"] if vessel.wall_layers else ["wall_mass", "wall_specific_heat", "internal_area"]
+            if ht.outer_coefficient > 0.0 and not vessel.wall_layers:
+                need.append("external_area")  # a layered wall's outer area follows from its geometry
             for k in need:
                 if getattr(vessel, k) is None:
                     raise ctx.error(f"vessel.{k}", None, 'missing required key: needed by '

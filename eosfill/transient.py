@@ -592,7 +592,7 @@ def simulate(fluid, volume, *, mode="fill", initial_temperature, initial_pressur
              inner_coefficient=None, outer_coefficient=0.0, ambient_temperature=288.15,
              initial_wall_temperature=None, duration, target_pressure=None, target_mass=None,
              temperature_limit=None, output_times=None, n_output=201, switch_pressure_difference=0.0,
-             limits=None, rtol=1e-6, method="BDF", max_step=None, description=None):
+             limits=None, rtol=1e-6, method="BDF", max_step=None, description=None, progress=None):
     """Integrate a fill or a vent of a rigid vessel in time.
 
     Parameters
@@ -615,6 +615,7 @@ def simulate(fluid, volume, *, mode="fill", initial_temperature, initial_pressur
     target_pressure [Pa], target_mass [kg], temperature_limit [K] : stop events
         (pressure equalisation with the supply or the back pressure always stops)
     output_times : times [s] to report (default n_output evenly spaced over the run)
+    progress : callable(t [s]) called after each integration step, or None
     switch_pressure_difference : bank-to-vessel pressure difference [Pa] at which
         the next bank is used
     limits : dict with any of max_gas_temperature, min_gas_temperature,
@@ -722,6 +723,7 @@ def simulate(fluid, volume, *, mode="fill", initial_temperature, initial_pressur
 
     stops = dict(target_pressure=target_pressure, target_mass=target_mass, temperature_limit=temperature_limit)
     run = _Run(model, y0, duration, rtol, atol, method, max_step, stops)
+    run.progress = progress
     run.integrate()
     res = run.result(output_times, n_output, limits or {}, description or [])
     if not run.complete:
@@ -746,6 +748,7 @@ class _Run:
         self.failure = ""
         self.t_end = 0.0
         self.y_end = y0
+        self.progress = None  # callable(t) after each step, e.g. a progress bar
 
     def _event_values(self, t, y):
         m = self.m
@@ -796,6 +799,8 @@ class _Run:
                 try:
                     with np.errstate(invalid="raise", divide="raise", over="raise"):
                         msg = solver.step()
+                    if self.progress is not None:
+                        self.progress(solver.t)
                 except (EosfillError, FloatingPointError, ValueError, ZeroDivisionError) as exc:
                     self.complete, self.failure = False, f"{type(exc).__name__}: {exc}"
                     return
@@ -1003,8 +1008,10 @@ def _flags(res, limits):
 # --------------------------------------------------------------------------
 # scenarios
 # --------------------------------------------------------------------------
-def run_scenario(scenario):
+def run_scenario(scenario, progress=None):
     """Run a scenario of kind ``transient_fill`` or ``transient_vent``.
+
+    ``progress``: callable(t) after each integration step (see :func:`simulate`).
 
     Returns a :class:`TransientResult` whose ``str()`` is the printed summary.
     Writes ``[output] json`` / ``csv`` when given; on an integration failure
@@ -1044,7 +1051,9 @@ def run_scenario(scenario):
     supply = None
     if mode == "fill":
         if sc.supply is not None:
-            supply = Reservoir(sc.supply.pressure, sc.supply.temperature, sc.mole_fractions(sc.supply.composition))
+            T_sup = sc.supply.temperature if sc.supply.temperature_schedule is None \
+                else [list(row) for row in sc.supply.temperature_schedule]  # precooling that changes with time
+            supply = Reservoir(sc.supply.pressure, T_sup, sc.mole_fractions(sc.supply.composition))
         else:
             supply = [Bank(b.volume, b.temperature, b.pressure, sc.mole_fractions(b.composition), b.name)
                       for b in sc.banks]
@@ -1053,7 +1062,10 @@ def run_scenario(scenario):
     ht = tr.heat_transfer
     if ht.model == "wall":
         v = sc.vessel
-        wall = LumpedWall(v.wall_mass, v.wall_specific_heat, v.internal_area, v.external_area or 0.0)
+        if v.wall_layers:
+            wall = LayeredWall(v.inner_radius, v.internal_area, list(v.wall_layers))
+        else:
+            wall = LumpedWall(v.wall_mass, v.wall_specific_heat, v.internal_area, v.external_area or 0.0)
         inner = ht.inner_coefficient
     stop = sc.stop
     target_mass = stop.target_mass
@@ -1087,7 +1099,7 @@ def run_scenario(scenario):
                        target_pressure=stop.target_pressure, target_mass=target_mass,
                        temperature_limit=stop.temperature_limit, output_times=out_times,
                        switch_pressure_difference=sc.cascade.switch_pressure_difference,
-                       limits=limits, rtol=tr.rtol, description=desc, **kw)
+                       limits=limits, rtol=tr.rtol, description=desc, progress=progress, **kw)
     except IntegrationError as exc:
         exc.partial.write(sc.output.json, sc.output.csv)
         raise

@@ -83,6 +83,8 @@ KINDS = {
     "specific_heat": Kind("J/(kg*K)", "a specific heat capacity", '"480 J/kg/K", "0.9 kJ/kg/K"',
                           "J/(kg*K)", "J/(kg K)"),
     "density": Kind("kg/m**3", "a density", '"0.75 kg/L", "180 kg/m3"', "kg/m**3", "kg/m³"),
+    "thermal_conductivity": Kind("W/(m*K)", "a thermal conductivity", '"16 W/m/K", "0.5 W/(m K)"',
+                                 "W/(m*K)", "W/(m K)"),
     "molar_volume": Kind("m**3/mol", "a molar or specific volume", '"1e-4 m3/mol", "0.005 m3/kg"',
                          "L/mol", "L/mol", mass_si="m**3/kg"),
     "molar_energy": Kind("J/mol", "a molar or specific energy (enthalpy, internal energy)",

@@ -6,6 +6,8 @@ values follow from the unit definitions cited in tests/test_units.py
 import math
 import textwrap
 
+import re
+
 import pytest
 
 from eosfill.errors import InputError
@@ -237,3 +239,66 @@ def test_transient_restriction_keys_of_another_type(tmp_path):
     """
     with pytest.raises(InputError, match=r"transient\.restriction\.Kv.*unknown key"):
         load_scenario(write(tmp_path, text))
+
+
+LAYERED = """
+kind = "transient_fill"
+[fluid]
+composition = "hydrogen"
+[vessel]
+volume = "60 L"
+internal_area = "1.0 m2"
+inner_radius = "138 mm"
+[[vessel.wall_layers]]
+thickness = "5 mm"
+conductivity = "0.45 W/m/K"
+density = "950 kg/m3"
+specific_heat = "1.9 kJ/kg/K"
+cells = 3
+[[vessel.wall_layers]]
+thickness = "0.022 m"
+conductivity = "0.6 W/(m K)"
+density = "1.55 kg/L"
+specific_heat = "1000 J/kg/K"
+[initial]
+temperature = "15 degC"
+pressure = "5 MPa"
+[supply]
+temperature = "-33 degC"
+pressure = "87.5 MPa"
+temperature_schedule = [["0 s", "-15 degC"], ["0.5 min", "-33 degC"]]
+[stop]
+target_pressure = "70 MPa"
+[transient]
+duration = "10 min"
+[transient.restriction]
+type = "pressure_ramp"
+rate = "20 MPa/min"
+[transient.heat_transfer]
+model = "wall"
+inner_coefficient = "500 W/m2/K"
+"""
+
+
+def test_layered_wall_and_precooling_schedule_read_to_si(tmp_path):
+    # unit factors: kJ = 1000 J, kg/L = 1000 kg/m3, min = 60 s, degC offset 273.15 K
+    # (BIPM SI Brochure, 9th ed., 2019, Tables 6 and 8)
+    sc = load_scenario(write(tmp_path, LAYERED))
+    lay = sc.vessel.wall_layers
+    assert [w.thickness for w in lay] == pytest.approx([0.005, 0.022])
+    assert lay[0].specific_heat == pytest.approx(1900.0) and lay[1].density == pytest.approx(1550.0)
+    assert [w.cells for w in lay] == [3, 4]
+    assert sc.vessel.inner_radius == pytest.approx(0.138)
+    assert sc.supply.temperature_schedule == [pytest.approx((0.0, 258.15)), pytest.approx((30.0, 240.15))]
+
+
+@pytest.mark.parametrize("change,fragment", [
+    (("inner_radius = \"138 mm\"\n", ""), "vessel.inner_radius"),
+    (("[\"0.5 min\", \"-33 degC\"]", "[\"0 s\", \"-33 degC\"]"), "temperature_schedule[1][0]"),
+    (("[\"0 s\", \"-15 degC\"]", "[\"0 s\", \"-15 bar\"]"), "temperature_schedule[0][1]"),
+    (("conductivity = \"0.45 W/m/K\"", "conductivity = \"0.45 W/m2/K\""), "wall_layers[0].conductivity"),
+])
+def test_layered_wall_and_schedule_errors_name_the_key(tmp_path, change, fragment):
+    path = write(tmp_path, LAYERED.replace(*change))
+    with pytest.raises(InputError, match=re.escape(fragment)):
+        load_scenario(path)
