@@ -317,7 +317,21 @@ def _quadratic_a_coefficients(p: MixtureParameters, x_key: tuple):
 
 
 def mixture_a_partial(T, x, p: MixtureParameters):
-    """Σ_j x_j a_ij for each i [Pa m⁶/mol²], shape (..., nc); used in (C10)."""
+    """Σ_j x_j a_ij for each i [Pa m⁶/mol²], shape (..., nc); used in (C10).
+
+    For one fixed composition, with √a_i = √a_c,i (λ_i - μ_i t), t = √T
+    (see :func:`_mixture_a_fixed_x`): Σ_j x_j a_ij = √a_i (p_i - t r_i),
+    p = (1 - K)(x √a_c λ), r = (1 - K)(x √a_c μ) computed once.
+    """
+    if np.ndim(x) == 1:
+        t = np.sqrt(np.asarray(T, dtype=float))[..., None]
+        sac = np.sqrt(p.ac)
+        lam = 1.0 + p.kappa
+        mu = p.kappa / np.sqrt(p.Tc)
+        M = 1.0 - p.kij
+        pv = M @ (x * sac * lam)
+        rv = M @ (x * sac * mu)
+        return sac * (lam - mu * t) * (pv - t * rv)
     s, _, _ = soave_sqrt_alpha(T, p.Tc, p.kappa)
     q = np.sqrt(p.ac) * s
     return q * ((x * q) @ (1.0 - p.kij))

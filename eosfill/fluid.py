@@ -352,6 +352,14 @@ class State:
         """Overall mole fractions, shape (..., nc)."""
         return self._x
 
+    def _x_fixed(self):
+        """The composition as one vector when every row has the fluid's own
+        composition (the kernels then take their fixed-composition forms)."""
+        x = self._x
+        if isinstance(x, np.ndarray) and x.ndim >= 1 and x.strides[:-1] == (0,) * (x.ndim - 1):
+            return x.reshape(-1, x.shape[-1])[0] if x.size else x
+        return x
+
     @property
     def root_choice(self):
         """Which root of the cubic was taken, in words (single-phase states)."""
@@ -408,7 +416,7 @@ class State:
         v, a, a_T, a_TT, b, B, Z = sol["v"], sol["a"], sol["a_T"], sol["a_TT"], sol["b"], sol["B"], sol["Z"]
         dPdT = cubic.dP_dT_v(v, a_T, b, p.model)
         dPdv = cubic.dP_dv_T(T, v, a, b, p.model)
-        cv = (idealgas.mixture_cp0(T, self._x, f.cp_coeffs, f.cp_Tmin, f.cp_Tmax) - R
+        cv = (idealgas.mixture_cp0(T, self._x_fixed(), f.cp_coeffs, f.cp_Tmin, f.cp_Tmax) - R
               + cubic.residual_cv(T, Z, a_TT, b, B, p.model))
         cp = cv - T * dPdT**2 / dPdv
         return dict(dPdT=dPdT, dPdv=dPdv, cv=cv, cp=cp)
@@ -496,7 +504,7 @@ class State:
     def _lnphi(self):
         self._require_single("ln_phi")
         sol = self._sol
-        lnphi = cubic.ln_phi(self._T, self._P, sol["Z"], self._x, self.fluid.params, a=sol["a"], b=sol["b"])
+        lnphi = cubic.ln_phi(self._T, self._P, sol["Z"], self._x_fixed(), self.fluid.params, a=sol["a"], b=sol["b"])
         # Péneloux shift: ln φ_i - c_i P/(R T)
         return lnphi - self.fluid.volume_shift * (self._P / (R * self._T))[..., None]
 

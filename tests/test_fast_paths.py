@@ -26,6 +26,9 @@ def test_fixed_composition_mixing_equals_general_form(w, model, T):
     general = cubic.mixture_a(np.array([T, 1.5 * T]), np.vstack([xf, xf]), g.params)  # 2-D x: oracle path
     for f_, g_ in zip(fast, general):
         np.testing.assert_allclose(f_, g_, rtol=1e-12)
+    Ts = np.array([T, 1.5 * T])
+    np.testing.assert_allclose(cubic.mixture_a_partial(Ts, xf, g.params),
+                               cubic.mixture_a_partial(Ts, np.vstack([xf, xf]), g.params), rtol=1e-12)
 
 
 @settings(max_examples=40, deadline=None)
