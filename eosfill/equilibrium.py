@@ -252,7 +252,7 @@ def saturation_temperature(P, p, tol=1e-12, maxiter=100, raise_on_fail=True):
 # --------------------------------------------------------------------------
 # stability (tangent-plane distance) and two-phase flash for mixtures
 # --------------------------------------------------------------------------
-def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
+def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_trials=False):
     """Michelsen (1982) tangent-plane stability test, vectorised over states.
 
     Parameters
@@ -267,6 +267,10 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
         Initial ln K for a flash from the most negative trial.
     tm : ndarray, shape (n,)
         Lowest modified tangent-plane distance found.
+    lnW : ndarray, shape (2n, nc)
+        (with ``return_trials``) the trials' final ln W, vapour-like first;
+        pass them back as ``lnW_start`` for a nearby state (a warm start:
+        a time step or a solver iteration away) instead of Wilson's guesses.
     """
     T = np.asarray(T, dtype=float)
     P = np.asarray(P, dtype=float)
@@ -282,6 +286,16 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
     dd = np.concatenate([d, d])
     zz = np.concatenate([z, z])
     lnW = np.concatenate([np.log(np.where(z > 0, z, 1.0)) + lnK, np.log(np.where(z > 0, z, 1.0)) - lnK])
+    if lnW_start is not None:
+        # rows of NaN (or trials that had collapsed onto the feed, which would
+        # stay there) start from Wilson's estimates instead
+        start = np.array(lnW_start, dtype=float)
+        with np.errstate(invalid="ignore", over="ignore"):
+            W0 = np.exp(np.where(zz > 0, start, -np.inf))
+            w0 = W0 / W0.sum(axis=-1, keepdims=True)
+        usable = np.all(np.isfinite(np.where(zz > 0, start, 0.0)), axis=-1) & \
+            (np.max(np.abs(w0 - zz), axis=-1) > 1e-4)
+        lnW = np.where(usable[:, None], start, lnW)
     lnW = np.where(zz > 0, lnW, -np.inf)
     active = np.ones(2 * n, dtype=bool)
     tm = np.zeros(2 * n)
@@ -323,6 +337,8 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300):
         lnK_l = np.log(z) - np.log(Wl / Wl.sum(-1, keepdims=True))
     lnK0 = np.where(use_v[:, None], lnK_v, lnK_l)
     lnK0 = np.where(np.isfinite(lnK0), lnK0, lnK)
+    if return_trials:
+        return unstable, lnK0, np.minimum(tmv, tml), lnW
     return unstable, lnK0, np.minimum(tmv, tml)
 
 

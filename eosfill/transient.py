@@ -316,9 +316,12 @@ class _Content:
         if c is not None and abs(c[0] - T) < 2.0 and abs(c[1] - math.log(P)) < 0.05 \
                 and np.max(np.abs(c[2] - x)) < 1e-6:
             return False
-        unstable, _, _ = equilibrium.stability_test(np.array([T]), np.array([P]), x[None, :], fl.params)
+        # warm start from the last test's trial phases (a few steps away)
+        lnW0 = None if c is None or np.max(np.abs(c[2] - x)) > 1e-3 else c[3]
+        unstable, _, _, lnW = equilibrium.stability_test(np.array([T]), np.array([P]), x[None, :], fl.params,
+                                                         lnW_start=lnW0, return_trials=True)
         if not unstable[0]:
-            self._stable_cache = (T, math.log(P), np.array(x))
+            self._stable_cache = (T, math.log(P), np.array(x), lnW)
             return False
         return True
 

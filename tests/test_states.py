@@ -300,3 +300,21 @@ def test_phase_envelope_encloses_two_phase_states():
         assert tb < td
         fl = eq.flash_TP(np.array([0.5 * (tb + td)]), np.array([P]), g.mole_fractions, g.params)
         assert fl["two_phase"][0]
+
+
+def test_stability_warm_start_cannot_hide_a_split():
+    """A warm start that had collapsed onto the feed (the trivial solution) is
+    replaced by Wilson's estimates, so a two-phase feed is still found unstable;
+    a warm start from a nearby state's trials gives the cold-start verdicts."""
+    g = eosfill.Fluid(MIXTURES["lean_ng"][0])
+    z = g.mole_fractions[None, :]
+    T, P = np.array([190.0]), np.array([3e6])
+    trivial = np.log(np.vstack([z, z]))
+    us, _, _ = eq.stability_test(T, P, z, g.params, lnW_start=trivial)
+    assert us[0]
+    # trials from a nearby single-phase state (300 K): same verdict as a cold start
+    _, _, _, lnW = eq.stability_test(np.array([300.0]), P, z, g.params, return_trials=True)
+    for Tt in (190.0, 250.0, 320.0):
+        warm = eq.stability_test(np.array([Tt]), P, z, g.params, lnW_start=lnW)[0][0]
+        cold = eq.stability_test(np.array([Tt]), P, z, g.params)[0][0]
+        assert warm == cold
