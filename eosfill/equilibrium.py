@@ -29,9 +29,10 @@ Methods and sources
   successive substitution K_i = φ_i^L(x)/φ_i^V(y) with the Rachford-Rice
   solution, accelerated by the dominant-eigenvalue method (DEM, ibid.
   Eq. 27) every fifth step, switched to a second-order method when
-  successive substitution stalls (near a critical point): minimisation of
-  the Gibbs energy G/RT = Σ n_i^V ln f_i^V + Σ n_i^L ln f_i^L over the
-  vapour mole numbers with its analytic gradient
+  successive substitution stalls (near a critical point): Newton's method
+  on ln K (Jacobian by forward differences), and where that falls short,
+  minimisation of the Gibbs energy G/RT = Σ n_i^V ln f_i^V + Σ n_i^L ln f_i^L
+  over the vapour mole numbers with its analytic gradient
   ∂(G/RT)/∂n_i^V = ln f_i^V - ln f_i^L (Michelsen & Mollerup 2007, ch. 10),
   by scipy's L-BFGS-B quasi-Newton method.
 
@@ -387,6 +388,53 @@ def _flash_gibbs_min(T, P, z, lnK, p):
     return lnK
 
 
+def _flash_residual(T, P, z, lnK, p):
+    """r(ln K) = ln K - (ln φ^L(x) - ln φ^V(y)) with x, y from Rachford-Rice."""
+    K = np.exp(lnK)
+    _, braw = rachford_rice(z[None, :], K[None, :])
+    b = float(np.clip(braw[0], 1e-12, 1.0 - 1e-12))
+    x = z / (1.0 + b * (K - 1.0))
+    y = K * x
+    x, y = x / x.sum(), y / y.sum()
+    Ta, Pa = np.array([T]), np.array([P])
+    lpl, _ = lnphi_root(Ta, Pa, x[None, :], p, which="stable")
+    lpv, _ = lnphi_root(Ta, Pa, y[None, :], p, which="stable")
+    return np.where(z > 0, lnK - (lpl[0] - lpv[0]), 0.0)
+
+
+def _flash_newton(T, P, z, lnK, p, tol, maxiter=30):
+    """Newton on r(ln K) = 0 with a forward-difference Jacobian (nc + 1
+    fugacity evaluations a step), halving the step while |r| does not fall.
+    Returns the best ln K found."""
+    lnK = np.array(lnK, dtype=float)
+    r = _flash_residual(T, P, z, lnK, p)
+    nc = lnK.size
+    for _ in range(maxiter):
+        if np.max(np.abs(r)) < tol:
+            break
+        J = np.empty((nc, nc))
+        for j in range(nc):
+            h = 1e-7 * max(1.0, abs(lnK[j]))
+            d = lnK.copy()
+            d[j] += h
+            J[:, j] = (_flash_residual(T, P, z, d, p) - r) / h
+        try:
+            step = np.linalg.solve(J, -r)
+        except np.linalg.LinAlgError:
+            break
+        lam = 1.0
+        for _ in range(12):
+            new = lnK + lam * step
+            rn = _flash_residual(T, P, z, new, p)
+            if np.all(np.isfinite(rn)) and np.max(np.abs(rn)) < np.max(np.abs(r)):
+                lnK, r = new, rn
+                break
+            lam *= 0.5
+        else:
+            break
+    return lnK
+
+
 def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=None,
              second_order=True):
     """Isothermal two-phase flash of mixtures at (T, P), vectorised over states.
@@ -466,10 +514,19 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
         triv = active & (np.max(np.abs(lnK), axis=-1) < 1e-6)
         active &= ~triv
         st = np.where(triv, CONVERGED, st)
-        if it == 60 and active.any() and second_order:
-            # successive substitution is slow here (near-critical): go second order
+        if it == 25 and active.any() and second_order:
+            # successive substitution is slow here (near-critical): go second
+            # order - Newton on ln K; the Gibbs-energy minimisation where Newton
+            # does not reach the tolerance
             for k in np.flatnonzero(active):
-                lnK[k] = _flash_gibbs_min(Ti[k], Pi[k], zi[k], lnK[k], p)
+                lnK[k] = _flash_newton(Ti[k], Pi[k], zi[k], lnK[k], p, tol)
+                if np.max(np.abs(_flash_residual(Ti[k], Pi[k], zi[k], lnK[k], p))) > 1e-9:
+                    lnK[k] = _flash_gibbs_min(Ti[k], Pi[k], zi[k], lnK[k], p)
+    # near a critical point successive substitution (and the quasi-Newton
+    # fallback) can stall short of the tolerance: finish with Newton steps
+    # on ln K (second order; Michelsen & Mollerup 2007, ch. 10)
+    for k in np.flatnonzero(st != CONVERGED):
+        lnK[k] = _flash_newton(Ti[k], Pi[k], zi[k], lnK[k], p, tol)
     # final compositions and residuals
     K = np.exp(lnK)
     b_i, braw = rachford_rice(zi, K)

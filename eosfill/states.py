@@ -480,10 +480,62 @@ def _mixture_fixed_P(fluid, P, key, target):
     _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), fx)
     unstable, _, _ = equilibrium.stability_test(T, P, np.broadcast_to(fluid.mole_fractions, (n, fluid.nc)),
                                                 fluid.params)
-    for i in np.flatnonzero(unstable):
-        T[i] = _mixture_fixed_P_two_phase(fluid, float(P[i]), key, float(target[i]), float(T[i]), scale)
+    idx = np.flatnonzero(unstable)
+    if idx.size:
+        Tb, done = _mixture_fixed_P_two_phase_batch(fluid, P[idx], key, target[idx], scale)
+        T[idx] = Tb
+        for i in idx[~done]:  # rows the batch could not bracket: one at a time
+            T[i] = _mixture_fixed_P_two_phase(fluid, float(P[i]), key, float(target[i]), float(T[i]), scale)
     fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params)
     return _mixture_from_flash(fluid, T, P, fl)
+
+
+def _flash_props(fluid, T, P, quick=False):
+    """Overall u, h, s, v on a batch of (T, P) from one vectorised flash
+    (``quick``: bounded successive substitution only, for grids)."""
+    kw = dict(maxiter=60, second_order=False) if quick else {}
+    fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params, raise_on_fail=False, **kw)
+    b = fl["beta"]
+    L = props_TP(fluid, T, P, x=fl["x"])
+    V = props_TP(fluid, T, P, x=fl["y"])
+    return {k: b * V[k] + (1 - b) * L[k] for k in ("u", "h", "s", "v")}, fl
+
+
+def _mixture_fixed_P_two_phase_batch(fluid, P, key, target, scale, n_grid=40):
+    """T at fixed P for many rows at once, inside or across the two-phase region.
+
+    prop(T) at fixed P is continuous and increasing (Cp > 0, also through
+    the phase split), so a T grid flashed in one vectorised call brackets
+    every row, and the vectorised Illinois search of :func:`illinois`
+    narrows all brackets together, each step one batched flash.
+    Returns T and a flag per row (False: no bracket found on the grid)."""
+    m = P.size
+    grid = np.linspace(0.4 * float(np.min(fluid.Tc)), 1.3 * float(np.max(fluid.Tc)), n_grid)
+    TT = np.tile(grid, m)
+    PP = np.repeat(P, n_grid)
+    pr, _ = _flash_props(fluid, TT, PP, quick=True)
+    tg = np.repeat(target, n_grid)
+    vals = (np.log(pr["v"] / tg) if key == "v" else (pr[key] - tg) / scale).reshape(m, n_grid)
+    ok = np.isfinite(vals)
+    cross = ok[:, :-1] & ok[:, 1:] & (vals[:, :-1] <= 0) & (vals[:, 1:] >= 0)
+    found = cross.any(axis=1)
+    k = np.argmax(cross, axis=1)
+    lo = np.where(found, grid[k], grid[0])
+    hi = np.where(found, grid[np.minimum(k + 1, n_grid - 1)], grid[-1])
+
+    def f(Ts):
+        q, _ = _flash_props(fluid, Ts, P)
+        return np.log(q["v"] / target) if key == "v" else (q[key] - target) / scale
+
+    T = np.full(m, np.nan)
+    if found.any():
+        flo, fhi = f(lo), f(hi)
+        good = found & (flo <= 0) & (fhi >= 0)
+        Tx, _, conv = illinois(f, lo, hi, np.where(good, flo, -1.0), np.where(good, fhi, 1.0),
+                               xtol=1e-12 * float(grid[-1]), ftol=1e-12)
+        found = good & conv
+        T = np.where(found, Tx, np.nan)
+    return T, found
 
 
 def _grid_bracket(values, grid):
@@ -616,13 +668,8 @@ def _mixture_TV(fluid, T, v):
 
 
 def _grid_props(fluid, T, P):
-    """Overall u, h, s, v on a batch of (T, P) from one vectorised flash."""
-    fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params, raise_on_fail=False,
-                              maxiter=60, second_order=False)
-    b = fl["beta"]
-    L = props_TP(fluid, T, P, x=fl["x"])
-    V = props_TP(fluid, T, P, x=fl["y"])
-    return {k: b * V[k] + (1 - b) * L[k] for k in ("u", "h", "s", "v")}, fl
+    """Overall u, h, s, v on a batch of (T, P) from one quick vectorised flash."""
+    return _flash_props(fluid, T, P, quick=True)
 
 
 def _grid_start(fluid, v, key, target, scale):

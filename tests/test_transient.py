@@ -20,7 +20,7 @@ import warnings
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 import eosfill
@@ -133,12 +133,17 @@ def test_infinite_coefficient_equals_isothermal_fill():
        T_in=st.floats(230.0, 350.0), d=st.floats(5e-4, 3e-3), h=st.floats(0.0, 1000.0),
        vent=st.booleans())
 def test_closure_random_runs(V, P0, ratio, T_in, d, h, vent):
+    # single-phase runs: a vent of this N2/CH4 mixture that expands into its
+    # two-phase region takes minutes (two-phase nozzle path, see
+    # docs/transient.md), so vents start warm and stop at a quarter of their
+    # pressure; two-phase vents are covered by test_two_phase_vent_flags_liquid
+    assume(not vent or T_in >= 280.0)
     n2 = eosfill.Fluid({"nitrogen": 0.8, "methane": 0.2})
     wall = heat.LumpedWall(50.0 * V + 1.0, 480.0, 5.0 * V ** (2 / 3), 5.5 * V ** (2 / 3))
     kw = dict(wall=wall, inner_coefficient=h, outer_coefficient=5.0, duration=120.0)
     if vent:
         res = transient.simulate(n2, V, mode="vent", initial_temperature=T_in, initial_pressure=P0 * ratio,
-                                 restriction=flow.Orifice(d, 0.8), back_pressure=P0 / 2, **kw)
+                                 restriction=flow.Orifice(d, 0.8), back_pressure=max(P0 / 2, P0 * ratio / 4), **kw)
     else:
         res = transient.simulate(n2, V, initial_temperature=288.0, initial_pressure=P0,
                                  restriction=flow.Orifice(d, 0.8),
