@@ -388,18 +388,28 @@ def _flash_gibbs_min(T, P, z, lnK, p):
     return lnK
 
 
+def _phases_from_K(z, lnK, p, T, P, clip=1e-12):
+    """One successive-substitution step of the flash (Michelsen 1982b):
+    Rachford-Rice for β at these K, the phase compositions
+    x = z/(1 + β(K - 1)), y = K x (normalised), and the new
+    ln K = ln φ^L(x) - ln φ^V(y).  Returns (β clipped to [0, 1], β unclipped,
+    x, y, new ln K); shapes (n,), (n,), (n, nc), (n, nc), (n, nc)."""
+    K = np.exp(lnK)
+    b, braw = rachford_rice(z, K)
+    bb = np.clip(braw, clip, 1.0 - clip)[..., None]
+    x = z / (1.0 + bb * (K - 1.0))
+    y = K * x
+    x = x / x.sum(-1, keepdims=True)
+    y = y / y.sum(-1, keepdims=True)
+    lpl, _ = lnphi_root(T, P, x, p, which="stable")
+    lpv, _ = lnphi_root(T, P, y, p, which="stable")
+    return b, braw, x, y, lpl - lpv
+
+
 def _flash_residual(T, P, z, lnK, p):
     """r(ln K) = ln K - (ln φ^L(x) - ln φ^V(y)) with x, y from Rachford-Rice."""
-    K = np.exp(lnK)
-    _, braw = rachford_rice(z[None, :], K[None, :])
-    b = float(np.clip(braw[0], 1e-12, 1.0 - 1e-12))
-    x = z / (1.0 + b * (K - 1.0))
-    y = K * x
-    x, y = x / x.sum(), y / y.sum()
-    Ta, Pa = np.array([T]), np.array([P])
-    lpl, _ = lnphi_root(Ta, Pa, x[None, :], p, which="stable")
-    lpv, _ = lnphi_root(Ta, Pa, y[None, :], p, which="stable")
-    return np.where(z > 0, lnK - (lpl[0] - lpv[0]), 0.0)
+    *_, new = _phases_from_K(z[None, :], lnK[None, :], p, np.array([T]), np.array([P]))
+    return np.where(z > 0, lnK - new[0], 0.0)
 
 
 def _flash_newton(T, P, z, lnK, p, tol, maxiter=30):
@@ -484,16 +494,7 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     st = np.full(idx.size, MAXITER, dtype=np.int8)
     b_i = np.full(idx.size, 0.5)
     for it in range(maxiter):
-        K = np.exp(lnK)
-        b_i, braw = rachford_rice(zi, K)
-        bb = np.clip(braw, 1e-12, 1 - 1e-12)[:, None]
-        xi = zi / (1.0 + bb * (K - 1.0))
-        yi = K * xi
-        xi = xi / xi.sum(-1, keepdims=True)
-        yi = yi / yi.sum(-1, keepdims=True)
-        lpl, _ = lnphi_root(Ti, Pi, xi, p, which="stable")
-        lpv, _ = lnphi_root(Ti, Pi, yi, p, which="stable")
-        new = lpl - lpv
+        b_i, braw, xi, yi, new = _phases_from_K(zi, lnK, p, Ti, Pi)
         delta = np.where(zi > 0, new - lnK, 0.0)
         hist.append(delta)
         err = np.max(np.abs(delta), axis=-1)
@@ -528,17 +529,9 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     for k in np.flatnonzero(st != CONVERGED):
         lnK[k] = _flash_newton(Ti[k], Pi[k], zi[k], lnK[k], p, tol)
     # final compositions and residuals
-    K = np.exp(lnK)
-    b_i, braw = rachford_rice(zi, K)
-    bb = np.clip(braw, 0.0, 1.0)[:, None]
-    xi = zi / (1.0 + bb * (K - 1.0))
-    yi = K * xi
-    xi = xi / xi.sum(-1, keepdims=True)
-    yi = yi / yi.sum(-1, keepdims=True)
-    lpl, _ = lnphi_root(Ti, Pi, xi, p, which="stable")
-    lpv, _ = lnphi_root(Ti, Pi, yi, p, which="stable")
+    b_i, braw, xi, yi, new = _phases_from_K(zi, lnK, p, Ti, Pi, clip=0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        r = np.where(zi > 0, np.log(yi) + lpv - np.log(xi) - lpl, 0.0)
+        r = np.where(zi > 0, np.log(yi) - np.log(xi) - new, 0.0)  # ln f^V - ln f^L
     res = np.max(np.abs(r), axis=-1)
     trivial = np.max(np.abs(lnK), axis=-1) < 1e-6
     single = trivial | (b_i <= 0.0) | (b_i >= 1.0)
@@ -573,18 +566,9 @@ def _flash_warm(T, P, z, p, lnK, tol, maxiter):
     lnK = np.array(np.broadcast_to(lnK, z.shape), dtype=float)
     hist = []
     for it in range(min(maxiter, 60)):
-        K = np.exp(lnK)
-        b, braw = rachford_rice(z, K)
+        b, braw, x, y, new = _phases_from_K(z, lnK, p, T, P, clip=0.0)
         if np.any((braw <= 0.0) | (braw >= 1.0)):
             return None
-        bb = braw[:, None]
-        x = z / (1.0 + bb * (K - 1.0))
-        y = K * x
-        x = x / x.sum(-1, keepdims=True)
-        y = y / y.sum(-1, keepdims=True)
-        lpl, _ = lnphi_root(T, P, x, p, which="stable")
-        lpv, _ = lnphi_root(T, P, y, p, which="stable")
-        new = lpl - lpv
         delta = np.where(z > 0, new - lnK, 0.0)
         lnK = new
         hist.append(delta)

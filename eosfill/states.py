@@ -346,6 +346,12 @@ def _pure_fixed_P(fluid: Fluid, P, key, target):
         Tr, fx, ok = illinois(f, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
         _raise_if(ok, f"P-{key} solve", dict(P=Pr, T=Tr), fx)
         T[rest] = Tr
+    return _pure_split_state(fluid, T, P, two, beta)
+
+
+def _pure_split_state(fluid: Fluid, T, P, two, beta):
+    """State of a pure fluid at (T, P): single phase where ``two`` is False,
+    saturated liquid and vapour (smallest and largest roots) mixed by β where True."""
     stable = fluid.single_phase(T, P)
     if not np.any(two):
         return stable
@@ -400,12 +406,7 @@ def _pure_fixed_T(fluid: Fluid, T, key, target):
         x, fx, ok = illinois(f, lo, hi, flo, fhi, xtol=1e-13, ftol=1e-13)
         _raise_if(ok, "T-s solve", dict(T=Tr, P=np.exp(x)), fx)
         Pout[rest] = np.exp(x)
-    stable = fluid.single_phase(T, Pout)
-    if not np.any(two):
-        return stable
-    liq = fluid.single_phase(T, Pout, which=np.where(two, 1, 0))
-    vap = fluid.single_phase(T, Pout, which=np.where(two, 2, 0))
-    return _compose(fluid, stable, liq, vap, two, beta)
+    return _pure_split_state(fluid, T, Pout, two, beta)
 
 
 def _raise_if(ok, solver, last, resid):
