@@ -426,13 +426,19 @@ class IsentropicNozzle:
         Pst = np.exp(np.array([lnP[i] + shift]))
         Gs, Ts = G_of(Pst)
         self.P_star, self.G_star, self.T_star = float(Pst[0]), float(Gs[0]), float(Ts[0])
-        # sub-critical branch: table of G² against P (spline), P from P* to P0
-        P_tab = self.P_star + (self.P0 - self.P_star) * np.sin(np.linspace(0.0, 0.5 * np.pi, 25)[1:-1]) ** 2
-        G_tab, _ = G_of(P_tab)
-        from scipy.interpolate import CubicSpline
+        self._G_of = G_of  # the sub-critical table is built only when a back pressure needs it
 
-        self._spline = CubicSpline(np.concatenate([[self.P_star], P_tab, [self.P0]]),
-                                   np.concatenate([[self.G_star**2], G_tab**2, [0.0]]))
+    def _subcritical_spline(self):
+        """Sub-critical branch of the equilibrium path: G² against P on a table
+        from P* to P0 (cubic spline), built on first use."""
+        if getattr(self, "_spline", None) is None:
+            from scipy.interpolate import CubicSpline
+
+            P_tab = self.P_star + (self.P0 - self.P_star) * np.sin(np.linspace(0.0, 0.5 * np.pi, 25)[1:-1]) ** 2
+            G_tab, _ = self._G_of(P_tab)
+            self._spline = CubicSpline(np.concatenate([[self.P_star], P_tab, [self.P0]]),
+                                       np.concatenate([[self.G_star**2], G_tab**2, [0.0]]))
+        return self._spline
 
     # -- public ------------------------------------------------------------
     def mass_flux(self, P_back):
@@ -442,7 +448,9 @@ class IsentropicNozzle:
             return self.G_star
         if P_back >= self.P0:
             return 0.0
-        if getattr(self, "_spline", None) is not None:
+        if getattr(self, "_G_of", None) is not None:  # equilibrium (two-phase) path
+            return math.sqrt(max(float(self._subcritical_spline()(P_back)), 0.0))
+        if getattr(self, "_spline", None) is not None:  # single phase, tabulated
             return math.sqrt(max(float(self._spline(P_back)), 0.0))
         return self._subcritical(P_back)
 
