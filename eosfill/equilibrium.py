@@ -76,6 +76,11 @@ def rachford_rice(z, K, tol=1e-13, maxiter=100):
     """
     z = np.asarray(z, dtype=float)
     K = np.asarray(K, dtype=float)
+    if z.ndim == 2 and z.shape[0] == 1 and K.shape == z.shape:
+        # one state: the same iteration in plain floats (numpy's per-call cost
+        # dominates at this size; tests/test_states.py compares the two)
+        b = _rachford_rice_one(z[0].tolist(), K[0].tolist(), tol, maxiter)
+        return np.array([min(max(b, 0.0), 1.0)]), np.array([b])
     Km1 = K - 1.0
     Kmax = K.max(axis=-1)
     Kmin = K.min(axis=-1)
@@ -89,7 +94,11 @@ def rachford_rice(z, K, tol=1e-13, maxiter=100):
     lo = lo + 1e-12 * span
     hi = hi - 1e-12 * span
     beta = np.where((lo < 0.5) & (hi > 0.5), 0.5, 0.5 * (lo + hi))
-    done = np.zeros(beta.shape, dtype=bool)
+    # every K ≥ 1 (or ≤ 1): (E2) has no root, f keeps one sign; all vapour (liquid)
+    none_up = Kmin >= 1.0
+    none_down = Kmax <= 1.0
+    beta = np.where(none_up, hi, np.where(none_down, lo, beta))
+    done = none_up | none_down
     for _ in range(maxiter):
         den = 1.0 + beta[..., None] * Km1
         f = (z * Km1 / den).sum(axis=-1)
@@ -108,6 +117,42 @@ def rachford_rice(z, K, tol=1e-13, maxiter=100):
         if np.all(done):
             break
     return np.clip(beta, 0.0, 1.0), beta
+
+
+def _rachford_rice_one(z, K, tol, maxiter):
+    """:func:`rachford_rice` for one state in Python floats (same bracket,
+    same safeguarded Newton, same stopping test); returns the unclipped β."""
+    Kmax, Kmin = max(K), min(K)
+    lo = max(1.0 / (1.0 - Kmax), -1e3) if Kmax > 1.0 else -1e3
+    hi = min(1.0 / (1.0 - Kmin), 1e3) if Kmin < 1.0 else 1e3
+    span = hi - lo
+    lo, hi = lo + 1e-12 * span, hi - 1e-12 * span
+    if Kmin >= 1.0:
+        return hi
+    if Kmax <= 1.0:
+        return lo
+    beta = 0.5 if lo < 0.5 < hi else 0.5 * (lo + hi)
+    pairs = [(zi, Ki - 1.0) for zi, Ki in zip(z, K) if zi > 0.0]
+    for _ in range(maxiter):
+        f = df = 0.0
+        for zi, km1 in pairs:
+            d = 1.0 + beta * km1
+            t = zi * km1 / d
+            f += t
+            df -= t * km1 / d
+        if f == 0.0:
+            return beta
+        if f > 0.0:
+            lo = beta
+        else:
+            hi = beta
+        new = beta - f / df if df != 0.0 else 0.5 * (lo + hi)
+        if not (lo <= new <= hi) or new != new:
+            new = 0.5 * (lo + hi)
+        if abs(new - beta) <= tol * max(1.0, abs(beta)):
+            return new
+        beta = new
+    return beta
 
 
 # --------------------------------------------------------------------------

@@ -318,3 +318,15 @@ def test_stability_warm_start_cannot_hide_a_split():
         warm = eq.stability_test(np.array([Tt]), P, z, g.params, lnW_start=lnW)[0][0]
         cold = eq.stability_test(np.array([Tt]), P, z, g.params)[0][0]
         assert warm == cold
+
+
+@settings(max_examples=200, deadline=None)
+@given(z=st.lists(st.floats(0.0, 1.0), min_size=2, max_size=6).filter(lambda v: sum(v) > 0.1),
+       lnK=st.lists(st.floats(-5.0, 5.0), min_size=6, max_size=6))
+def test_rachford_rice_one_state_equals_batch(z, lnK):
+    """Consistency: the plain-float path for one state gives the batch path's β."""
+    z = np.array(z) / sum(z)
+    K = np.exp(np.array(lnK[:z.size]))
+    one = eq.rachford_rice(z[None, :], K[None, :])[1][0]
+    batch = eq.rachford_rice(np.vstack([z, z]), np.vstack([K, K]))[1][0]
+    assert one == pytest.approx(batch, rel=1e-10, abs=1e-12)
