@@ -159,7 +159,15 @@ def _rachford_rice_one(z, K, tol, maxiter):
 # fugacity coefficients with a chosen root
 # --------------------------------------------------------------------------
 def lnphi_root(T, P, x, p, which="stable"):
-    """ln φ_i (..., nc), Z and the volume solution at T, P, composition x."""
+    """ln φ_i (..., nc), Z and the volume solution at T, P, composition x.
+
+    One state (shape (1,) / (1, nc)) goes through the plain-float kernel
+    :func:`eosfill.scalar.lnphi_one` (the second item is then ``{"Z": Z}``)."""
+    if isinstance(which, str) and np.size(T) == 1 and np.ndim(x) == 2 and np.shape(x)[0] == 1:
+        from .scalar import lnphi_one
+
+        lp, Z = lnphi_one(float(np.ravel(T)[0]), float(np.ravel(P)[0]), np.ravel(x).tolist(), p, which)
+        return np.array([lp]), {"Z": np.array([Z])}
     sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
     lnphi = cubic.ln_phi(T, P, sol["Z"], x, p, a=sol["a"], b=sol["b"])
     return lnphi, sol

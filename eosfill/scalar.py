@@ -212,3 +212,87 @@ def fixed_composition(fluid) -> FixedComposition:
         k = FixedComposition(fluid)
         fluid.__dict__["_scalar_kernel"] = k
     return k
+
+
+# --------------------------------------------------------------------------
+# fugacity coefficients of one state, any composition
+# --------------------------------------------------------------------------
+_PARAM_CACHE: dict = {}
+
+
+def _param_lists(p):
+    hit = _PARAM_CACHE.get(id(p))
+    if hit is None or hit[0] is not p:
+        if len(_PARAM_CACHE) > 64:
+            _PARAM_CACHE.clear()
+        lists = dict(sac=np.sqrt(p.ac).tolist(), kappa=p.kappa.tolist(), sqrtTc=np.sqrt(p.Tc).tolist(),
+                     b=p.b.tolist(), M=(1.0 - p.kij).tolist(), d1=p.model.delta1, d2=p.model.delta2)
+        hit = (p, lists)
+        _PARAM_CACHE[id(p)] = hit
+    return hit[1]
+
+
+def _cubic_roots_one(c2, c1, c0):
+    """Real roots of Z³ + c2 Z² + c1 Z + c0 (ascending), closed form then three
+    Newton steps, as :func:`eosfill.cubic.cubic_roots` does for arrays."""
+    Q = (c2 * c2 - 3.0 * c1) / 9.0
+    Rr = (2.0 * c2**3 - 9.0 * c2 * c1 + 27.0 * c0) / 54.0
+    if Rr * Rr < Q**3:
+        theta = math.acos(max(-1.0, min(1.0, Rr / math.sqrt(Q**3))))
+        m = -2.0 * math.sqrt(Q)
+        roots = [m * math.cos((theta + 2.0 * math.pi * k) / 3.0) - c2 / 3.0 for k in (0, 2, 1)]
+    else:
+        Aq = -math.copysign(1.0, Rr) * (abs(Rr) + math.sqrt(max(Rr * Rr - Q**3, 0.0))) ** (1.0 / 3.0)
+        roots = [Aq + (Q / Aq if Aq != 0.0 else 0.0) - c2 / 3.0]
+    out = []
+    for Z in roots:
+        for _ in range(3):
+            df = (3.0 * Z + 2.0 * c2) * Z + c1
+            if df == 0.0:
+                break
+            Z -= (((Z + c2) * Z + c1) * Z + c0) / df
+        out.append(Z)
+    return sorted(out)
+
+
+def lnphi_one(T, P, x, p, which="stable"):
+    """ln φ_i of one state (C10) in plain floats, with the root taken as in
+    :func:`eosfill.cubic.solve_volume_from_TP` ("stable": lowest G^R of the
+    smallest and largest admissible roots; "liquid"/"vapour": smallest/largest).
+
+    Returns (list of ln φ_i, Z).  Checked against the vectorised kernels in
+    ``tests/test_scalar.py``.
+    """
+    L_ = _param_lists(p)
+    sac, kappa, sqrtTc, bi, M = L_["sac"], L_["kappa"], L_["sqrtTc"], L_["b"], L_["M"]
+    d1, d2 = L_["d1"], L_["d2"]
+    n = len(x)
+    t = math.sqrt(T)
+    q = [sac[i] * (1.0 + kappa[i] * (1.0 - t / sqrtTc[i])) for i in range(n)]     # √a_i, (C3)
+    xq = [x[i] * q[i] for i in range(n)]
+    Mxq = [sum(M[i][j] * xq[j] for j in range(n)) for i in range(n)]
+    a = sum(xq[i] * Mxq[i] for i in range(n))                                    # (C4)
+    b = sum(x[i] * bi[i] for i in range(n))
+    RT = 8.314462618 * T
+    A, B = a * P / (RT * RT), b * P / RT
+    s, pr = d1 + d2, d1 * d2
+    roots = [Z for Z in _cubic_roots_one((s - 1.0) * B - 1.0, A + pr * B * B - s * B * (B + 1.0),
+                                         -(A * B + pr * B * B * (B + 1.0))) if Z > B]    # (C5)
+    if not roots:
+        raise ConvergenceError("lnphi_one", "no root of the cubic above B", dict(T=T, P=P))
+
+    def gR(Z):  # (C6)
+        return Z - 1.0 - math.log(Z - B) - A / B * math.log((Z + d1 * B) / (Z + d2 * B)) / (d1 - d2)
+
+    lo, hi = roots[0], roots[-1]
+    if which == "liquid":
+        Z = lo
+    elif which == "vapour":
+        Z = hi
+    else:
+        Z = lo if (lo < hi and gR(lo) < gR(hi)) else hi
+    Lt = math.log((Z + d1 * B) / (Z + d2 * B)) / (d1 - d2)
+    lnZB = math.log(Z - B)
+    AB = A / B
+    return [bi[i] / b * (Z - 1.0) - lnZB - AB * (2.0 * q[i] * Mxq[i] / a - bi[i] / b) * Lt
+            for i in range(n)], Z                                                 # (C10)

@@ -62,3 +62,21 @@ def test_scalar_state_path_equals_batch_path():
     both = g.state(u=ref.u, v=ref.v)
     assert one.T == pytest.approx(both.T[0], rel=1e-12)
     assert one.P == pytest.approx(both.P[0], rel=1e-11)
+
+
+@settings(max_examples=150, deadline=None)
+@given(model=st.sampled_from(["PR", "PR78", "SRK"]), T=st.floats(90.0, 700.0), logP=st.floats(4.0, 7.7),
+       w=st.lists(st.floats(0.0, 1.0), min_size=5, max_size=5).filter(lambda v: sum(v) > 0.1),
+       which=st.sampled_from(["stable", "liquid", "vapour"]))
+def test_lnphi_one_matches_vectorised(model, T, logP, w, which):
+    """ln φ of one state in plain floats equals the vectorised (C10) with the same root."""
+    from eosfill import cubic
+
+    g = eosfill.Fluid(NATGAS, model=model)
+    x = np.array(w) / sum(w)
+    P = 10.0**logP
+    lp, Z = scalar.lnphi_one(T, P, x.tolist(), g.params, which)
+    sol = cubic.solve_volume_from_TP(np.array([T]), np.array([P]), x[None, :], g.params, which=which)
+    ref = cubic.ln_phi(np.array([T]), np.array([P]), sol["Z"], x[None, :], g.params)
+    assert Z == pytest.approx(float(sol["Z"][0]), rel=1e-11)
+    np.testing.assert_allclose(lp, ref[0], rtol=1e-9, atol=1e-10)
