@@ -246,8 +246,9 @@ class IsentropicNozzle:
     two_phase : whether the equilibrium path was used
     """
 
-    def __init__(self, fluid, T0, v0_eos, x=None, kernel=None, check_phase=True):
+    def __init__(self, fluid, T0, v0_eos, x=None, kernel=None, check_phase=True, hint=None):
         self.fluid = fluid
+        self.hint = hint  # ln(P*/P0) of a nearby two-phase throat, or None
         k = kernel if kernel is not None else TVKernel(fluid, x)
         self.kernel = k
         self.M = k.molar_mass
@@ -264,10 +265,11 @@ class IsentropicNozzle:
             self._equilibrium_path(self._fluid_x())
 
     @classmethod
-    def from_equilibrium(cls, fluid, P0, h0, s0, x=None):
+    def from_equilibrium(cls, fluid, P0, h0, s0, x=None, hint=None):
         """A nozzle fed by an equilibrium (possibly two-phase) upstream state (P0, h0, s0)."""
         self = object.__new__(cls)
         self.fluid = fluid
+        self.hint = hint
         self.kernel = None
         xx = fluid.mole_fractions if x is None else np.asarray(x, dtype=float)
         self.M = float(xx @ fluid.molar_masses)
@@ -410,10 +412,23 @@ class IsentropicNozzle:
             return (np.sqrt(2.0 * self.M * np.maximum(self.h0 - np.asarray(st.h), 0.0)) / np.asarray(st.v),
                     np.asarray(st.T))
 
-        lnP = np.log(self.P0) - np.linspace(0.0, 3.0, 31)[1:]
-        G, T = G_of(np.exp(lnP))
-        i = int(np.argmax(G))
-        h = lnP[0] - lnP[1]
+        lnP = None
+        hint = getattr(self, "hint", None)
+        if hint is not None:
+            # a nearby state's throat (ln P*/P0): search around it first
+            lnP = np.log(self.P0) + hint + np.linspace(-0.25, 0.25, 9)
+            lnP = lnP[lnP < np.log(self.P0)][::-1]
+            G, T = G_of(np.exp(lnP))
+            i = int(np.argmax(G))
+            if lnP.size < 5 or i in (0, lnP.size - 1):
+                lnP = None  # the maximum is not inside: search the whole path
+            else:
+                h = lnP[0] - lnP[1]
+        if lnP is None:
+            lnP = np.log(self.P0) - np.linspace(0.0, 3.0, 31)[1:]
+            G, T = G_of(np.exp(lnP))
+            i = int(np.argmax(G))
+            h = lnP[0] - lnP[1]
         for _ in range(2):
             lnP = np.linspace(lnP[i] - h, lnP[i] + h, 9)
             lnP = lnP[lnP < np.log(self.P0)]

@@ -431,13 +431,17 @@ class _Model:
             st = up["st"]
             f = st.get("fluid_x") or self.fluid
             s0 = float(f.state(T=st["T"], v=st["v"]).s)
-            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0)
+            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0,
+                                                          hint=getattr(self, "_throat_hint", None))
         else:
             noz = _flow.IsentropicNozzle(self.fluid, up["T"], up["v_eos"], kernel=up["kernel"],
-                                         check_phase=not self._throat_known_single(up))
+                                         check_phase=not self._throat_known_single(up),
+                                         hint=getattr(self, "_throat_hint", None))
             if not self._throat_known_single(up):
                 self._last_throat = (noz.T_star, math.log(noz.P_star), np.array(up["x"]), noz.two_phase,
                                      up["T"], math.log(up["P"]))
+        # the next step's two-phase throat search starts near this one
+        self._throat_hint = math.log(noz.P_star / noz.P0) if noz.two_phase else None
         if key is not None:
             noz.tabulate()
             self._nozzle_cache["noz"] = (key, noz)

@@ -142,3 +142,17 @@ def test_bad_restriction_inputs(make):
     with pytest.raises(InputError) as e:
         make()
     assert "allowed" in str(e.value)
+
+
+def test_two_phase_throat_search_with_a_hint_finds_the_same_throat():
+    """Consistency: starting the two-phase throat search near a previous
+    throat (the time-resolved model's warm start) gives the same choked flux
+    as the search over the whole path."""
+    co2 = eosfill.Fluid("carbon dioxide")
+    up = co2.state(T=280.0, v=1.5e-4)  # inside the dome at 280 K
+    assert up.phase == "two-phase"
+    cold = flow.IsentropicNozzle.from_equilibrium(co2, up.P, up.h, up.s)
+    warm = flow.IsentropicNozzle.from_equilibrium(co2, up.P, up.h, up.s,
+                                                   hint=math.log(cold.P_star / cold.P0) + 0.05)
+    assert warm.G_star == pytest.approx(cold.G_star, rel=1e-4)
+    assert warm.P_star == pytest.approx(cold.P_star, rel=2e-2)
