@@ -99,6 +99,8 @@ def _row(label, value, unit, alt=None):
 
 
 def _state_table(fluid, st):
+    import numpy as np
+
     from .units import format_number as fn
 
     M = st.molar_mass
@@ -129,6 +131,15 @@ def _state_table(fluid, st):
     if fluid.nc > 1:
         for n, x, w in zip(fluid.names, fluid.mole_fractions, fluid.mass_fractions):
             rows.append(_row(f"x {n}", fn(x), "mol/mol", f"{fn(w)} kg/kg"))
+    if st.phase == "two-phase":
+        beta = st.vapor_fraction
+        m_v = beta * st.vapour.molar_mass / M  # vapour mass fraction of the content
+        rows.append(_row("vapour fraction", fn(beta), "mol/mol", f"{fn(m_v)} kg/kg"))
+        for label, ph in (("liquid", st.liquid), ("vapour", st.vapour)):
+            rows.append(_row(f"{label} density", fn(ph.rho_mass), "kg/m³", f"{fn(ph.rho)} mol/m³"))
+            if fluid.nc > 1:
+                for n, x in zip(fluid.names, np.ravel(ph.x)):
+                    rows.append(_row(f"  {label} x {n}", fn(x), "mol/mol", ""))
     width = max(len(r[0]) for r in rows)
     vw = max(len(str(r[1])) for r in rows)
     lines = [f"{fluid!r}"]

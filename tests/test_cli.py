@@ -125,3 +125,22 @@ def test_main_in_process(capsys):
     assert main(["state", "--fluid", "argon", "--T", "300 K", "--P", "1 bar"]) == 0
     assert "argon" in capsys.readouterr().out
     assert main(["state", "--fluid", "argon", "--T", "300 K", "--P", "-2 bar"]) == 2
+
+
+def test_state_two_phase_prints_the_split():
+    """A two-phase state prints its vapour fraction and both phases; the
+    printed numbers satisfy the lever rule on specific volume (consistency):
+    1/ρ = w_V/ρ_V + (1 - w_V)/ρ_L with w_V the vapour mass fraction."""
+    r = run("state", "--fluid", "propane=0.6,n-butane=0.4", "--T", "300 K", "--P", "6 bar")
+    assert r.returncode == 0, r.stderr
+    rows = {}
+    for line in r.stdout.splitlines():
+        label, _, rest = line.strip().partition("  ")
+        rows.setdefault(label.strip(), rest.split())
+    rho = float(rows["density"][0])
+    rho_L = float(rows["liquid density"][0])
+    rho_V = float(rows["vapour density"][0])
+    w_V = float(rows["vapour fraction"][2].strip("("))
+    assert 0.0 < w_V < 1.0
+    assert 1.0 / rho == pytest.approx(w_V / rho_V + (1.0 - w_V) / rho_L, rel=1e-4)  # 6 printed digits
+    assert "liquid x propane" in r.stdout and "n/a (two-phase)" in r.stdout
