@@ -663,8 +663,6 @@ def _saturation_point(T, P, z, p, kind, solve_for, tol=1e-10, maxiter=200):
     T = float(T) if T is not None else None
     P = float(P) if P is not None else None
     if solve_for == "P":
-        var = np.log(p.Pc @ z if P is None else P)
-        lnK = wilson_lnK(T, np.exp(var), p.Tc, p.Pc, p.omega)
         # Wilson estimate of the bubble/dew pressure
         K1 = np.exp(wilson_lnK(T, 1.0, p.Tc, p.Pc, p.omega))
         var = np.log((z * K1).sum()) if kind == "bubble" else -np.log((z / K1).sum())

@@ -363,9 +363,10 @@ class State:
     @property
     def root_choice(self):
         """Which root of the cubic was taken, in words (single-phase states)."""
-        choice = self._sol["choice"]
-        text = np.vectorize(cubic.ROOT_CHOICE_TEXT.get, otypes=[object])(choice)
-        return text if np.ndim(text) else str(text[()])
+        choice = np.asarray(self._sol["choice"])
+        labels = np.array([cubic.ROOT_CHOICE_TEXT[k] for k in range(len(cubic.ROOT_CHOICE_TEXT))], dtype=object)
+        text = labels[choice]  # one table look-up for the whole batch
+        return text if np.ndim(text) else str(text)
 
     @property
     def roots(self):
@@ -412,7 +413,7 @@ class State:
         sol = self._sol
         f = self.fluid
         p = f.params
-        T, P = self._T, self._P
+        T = self._T
         v, a, a_T, a_TT, b, B, Z = sol["v"], sol["a"], sol["a_T"], sol["a_TT"], sol["b"], sol["B"], sol["Z"]
         dPdT = cubic.dP_dT_v(v, a_T, b, p.model)
         dPdv = cubic.dP_dv_T(T, v, a, b, p.model)

@@ -83,6 +83,8 @@ def run_scenario(scenario, write=True, progress=None):
     eosfill.vessel.Result (or the transient module's result)
     """
     from . import vessel as vs
+    from .cascade import Bank, cascade_fill
+    from .vent import vent
 
     kind = scenario.kind
     if kind in TRANSIENT_KINDS:
@@ -114,13 +116,13 @@ def run_scenario(scenario, write=True, progress=None):
         supply = vs.Stream(_fluid_of(scenario, sup.composition), sup.temperature, P=sup.pressure)
         result = vs.fill(vessel, supply, initial, liquefied=kind == "liquefied_fill", **common, **fills)
     elif kind == "cascade_fill":
-        banks = [vs.Bank(b.volume, vs.Stream(_fluid_of(scenario, b.composition), b.temperature, P=b.pressure),
+        banks = [Bank(b.volume, vs.Stream(_fluid_of(scenario, b.composition), b.temperature, P=b.pressure),
                          name=b.name or str(i + 1)) for i, b in enumerate(scenario.banks)]
-        result = vs.cascade_fill(vessel, banks, initial,
+        result = cascade_fill(vessel, banks, initial,
                                  switch_pressure_difference=scenario.cascade.switch_pressure_difference,
                                  **common, **fills)
     elif kind == "vent":
-        result = vs.vent(vessel, initial, **common)
+        result = vent(vessel, initial, **common)
     else:  # pragma: no cover - the scenario reader allows no other kind
         raise InputError("kind", kind, "fill, cascade_fill, liquefied_fill, vent")
     result.title = scenario.title

@@ -21,7 +21,9 @@ from hypothesis import strategies as st
 
 import eosfill
 from _reference import thermo_eos_kwargs, thermo_flashvl
-from eosfill.vessel import Bank, Stream, Vessel, cascade_fill, fill, vent
+from eosfill.cascade import Bank, cascade_fill
+from eosfill.vent import vent
+from eosfill.vessel import Stream, Vessel, fill
 
 pytestmark = pytest.mark.filterwarnings("ignore::eosfill.RangeWarning")
 AR = eosfill.Fluid("argon")
