@@ -31,7 +31,7 @@ _LAZY = {
 
 
 _SUBMODULES = {"components", "constants", "cubic", "equilibrium", "fluid", "idealgas", "states",
-               "vessel", "vent", "cascade", "transient", "scalar", "flow", "heat", "scenario", "report", "cli", "units", "trace",
+               "vessel", "vent", "cascade", "transient", "scalar", "flow", "heat", "scenario", "report", "report_plots", "states_pure", "states_mixture", "cli", "units", "trace",
                "jobs"}
 
 

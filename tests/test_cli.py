@@ -1,5 +1,11 @@
 """Command line (python -m eosfill): output and exit codes (0 ok, 2 bad input,
-3 solver failure or missing solver)."""
+3 solver failure or missing solver).
+
+Plumbing checks: printed numbers are compared with the Python API (the
+physics behind them is checked against outside sources - thermo, CoolProp,
+published values - in the test_cubic_*, test_states, test_vessel and
+test_transient files) or with identities they must satisfy.
+"""
 import subprocess
 import sys
 import textwrap

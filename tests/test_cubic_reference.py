@@ -133,6 +133,22 @@ reduced_T = st.floats(min_value=0.45, max_value=3.0)
 log10_P = st.floats(min_value=3.0, max_value=math.log10(4.0) + 7.0)  # 1 kPa .. 40 MPa-ish
 
 
+def _pure_case(name, model, Tr, logP):
+    """Our single-phase state and thermo's EOS object at the same (T, P) with
+    the same Tc, Pc, omega (hypothesis draws reduced T and log10 P)."""
+    import warnings
+
+    fluid = eosfill.Fluid(name, model=model)
+    Tc, Pc, omega = float(fluid.Tc[0]), float(fluid.Pc[0]), float(fluid.omega[0])
+    T = Tr * Tc
+    P = _pressure(logP, Pc)
+    assume(T > 5.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", eosfill.RangeWarning)
+        st_ = fluid.single_phase(T, P)
+    return fluid, st_, PURE_CLASS[model](Tc=Tc, Pc=Pc, omega=omega, T=T, P=P)
+
+
 def _pressure(logP, Pc):
     # bound by 4 Pc as well so that heavy fluids reach only "compressed" states
     return min(10.0**logP, 4.0 * Pc)
@@ -143,16 +159,7 @@ def _pressure(logP, Pc):
 @given(Tr=reduced_T, logP=log10_P)
 def test_pure_departures_match_thermo(name, model, Tr, logP):
     # thermo 0.6.1 PR / PR78 / SRK, same Tc, Pc, omega as our Fluid
-    fluid = eosfill.Fluid(name, model=model)
-    Tc, Pc, omega = float(fluid.Tc[0]), float(fluid.Pc[0]), float(fluid.omega[0])
-    T = Tr * Tc
-    P = _pressure(logP, Pc)
-    assume(T > 5.0)
-    import warnings
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", eosfill.RangeWarning)
-        st_ = fluid.single_phase(T, P)
-    eos = PURE_CLASS[model](Tc=Tc, Pc=Pc, omega=omega, T=T, P=P)
+    fluid, st_, eos = _pure_case(name, model, Tr, logP)
     _compare_state(fluid, st_, eos, [1.0], pure=True)
 
 
@@ -244,17 +251,8 @@ def _compare_derivatives(fluid, st_, eos):
 @given(Tr=reduced_T, logP=log10_P)
 def test_pure_derivative_properties_match_thermo(name, model, Tr, logP):
     # thermo 0.6.1 PR / PR78 / SRK: Cp_dep, Cv_dep, dP_dT, dP_dV, dV_dT
-    fluid = eosfill.Fluid(name, model=model)
-    Tc, Pc, omega = float(fluid.Tc[0]), float(fluid.Pc[0]), float(fluid.omega[0])
-    T = Tr * Tc
-    P = _pressure(logP, Pc)
-    assume(T > 5.0)
-    import warnings
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", eosfill.RangeWarning)
-        st_ = fluid.single_phase(T, P)
-        eos = PURE_CLASS[model](Tc=Tc, Pc=Pc, omega=omega, T=T, P=P)
-        _compare_derivatives(fluid, st_, eos)
+    fluid, st_, eos = _pure_case(name, model, Tr, logP)
+    _compare_derivatives(fluid, st_, eos)
 
 
 @pytest.mark.parametrize("case", MIX_CASES, ids=[c[0] + "-" + "+".join(c[1]) for c in MIX_CASES])

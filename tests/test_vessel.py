@@ -12,8 +12,6 @@ Kinds of test, kept apart:
 """
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
