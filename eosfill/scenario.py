@@ -32,6 +32,12 @@ range - raises :class:`eosfill.errors.InputError` whose message starts with
 the file name and names the key path (``vessel.volume``,
 ``banks[1].pressure``).  Reading a scenario writes nothing.
 
+Where things are: the dataclasses of each section (``Vessel``, ``Initial``,
+``Supply``, ``Bank``, ``Stop``, ``Limits``, ``Transient``, ... and the whole
+``Scenario``); the key-checking reader (``_Reader``, ``_Context``);
+``load_scenario``; one ``_read_<section>`` function per section; and the
+cross-checks between sections (``_check_consistency``).
+
 Results computed from a scenario are estimates from an equation of state and
 simplified models; local codes, the vessel's approval documents and licensed
 practice govern.

@@ -26,6 +26,13 @@ that the closure
 with E_gas recomputed from the reported (T, v) by the equation of state,
 measures the whole run's consistency.
 
+Where things are, in order: sources (``Reservoir``, ``Bank``); the result
+(``TransientResult``); the model (``_Content``: the vessel's state from
+(n, U); ``_Model``: the right-hand side, flows and wall); the integration
+driver (``simulate``, ``_Run``: steps, events, dense output, closures);
+``run_scenario`` (a scenario file to a run).  Restrictions are in
+:mod:`eosfill.flow`, walls in :mod:`eosfill.heat`.
+
 Results are estimates from an equation of state and simplified models;
 local codes, the vessel's approval documents and licensed practice govern.
 """
