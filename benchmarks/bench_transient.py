@@ -22,7 +22,9 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 import eosfill  # noqa: E402
-from eosfill import flow, heat, transient  # noqa: E402
+from eosfill.transient import flow  # noqa: E402
+from eosfill.transient import heat  # noqa: E402
+from eosfill.transient import model as transient  # noqa: E402
 
 COMP = {"methane": 0.85, "ethane": 0.07, "propane": 0.03, "nitrogen": 0.03, "carbon dioxide": 0.02}
 

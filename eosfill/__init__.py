@@ -13,7 +13,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-from .errors import (  # noqa: F401  (light: no numpy)
+from eosfill.errors import (  # noqa: F401  (light: no numpy)
     ConvergenceError,
     EosfillError,
     InputError,
@@ -22,17 +22,15 @@ from .errors import (  # noqa: F401  (light: no numpy)
 )
 
 _LAZY = {
-    "Fluid": ("fluid", "Fluid"),
-    "State": ("fluid", "State"),
-    "fluid_names": ("components", "fluid_names"),
-    "get_component": ("components", "get_component"),
-    "R": ("constants", "R"),
+    "Fluid": ("eosfill.states.fluid", "Fluid"),
+    "State": ("eosfill.model.mixture", "State"),
+    "fluid_names": ("eosfill.model.components", "fluid_names"),
+    "get_component": ("eosfill.model.components", "get_component"),
+    "R": ("eosfill.constants", "R"),
 }
 
-
-_SUBMODULES = {"components", "constants", "cubic", "equilibrium", "fluid", "idealgas", "states",
-               "vessel", "vent", "cascade", "transient", "scalar", "flow", "heat", "scenario", "report", "report_plots", "states_pure", "states_mixture", "cli", "units", "trace",
-               "jobs"}
+# the layers, from the ground up (each imports only those before it)
+_SUBMODULES = ("constants", "errors", "model", "equilibrium", "states", "vessel", "transient", "study", "io")
 
 
 def __getattr__(name):
@@ -41,7 +39,7 @@ def __getattr__(name):
         import importlib
 
         mod, attr = _LAZY[name]
-        value = getattr(importlib.import_module(f".{mod}", __name__), attr)
+        value = getattr(importlib.import_module(mod), attr)
         globals()[name] = value
         return value
     if name in _SUBMODULES:

@@ -1,6 +1,6 @@
 """`python -m eosfill` runs the command line (see eosfill.cli)."""
 import sys
 
-from .cli import main
+from eosfill.io.cli import main
 
 sys.exit(main())

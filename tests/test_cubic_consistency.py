@@ -29,7 +29,8 @@ from hypothesis import strategies as st
 from scipy import integrate, optimize
 
 import eosfill
-from eosfill import cubic, idealgas
+from eosfill.model import cubic
+from eosfill.model import idealgas
 from eosfill.constants import P0, R, T0
 
 MODELS = ("PR", "PR78", "SRK")

@@ -32,7 +32,7 @@ from hypothesis import strategies as st  # noqa: E402
 from thermo import PR, PR78, PR78MIX, PRMIX, SRK, SRKMIX  # noqa: E402
 
 import eosfill  # noqa: E402
-from eosfill import idealgas  # noqa: E402
+from eosfill.model import idealgas  # noqa: E402
 from eosfill.constants import R  # noqa: E402
 
 pytestmark = pytest.mark.reference

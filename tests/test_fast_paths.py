@@ -9,7 +9,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import eosfill
-from eosfill import cubic, idealgas
+from eosfill.model import cubic
+from eosfill.model import idealgas
 
 NAMES = ["methane", "ethane", "propane", "nitrogen", "carbon dioxide", "hydrogen", "n-butane"]
 

@@ -15,7 +15,8 @@ import numpy as np
 import pytest
 
 import eosfill
-from eosfill import flow, states
+from eosfill.transient import flow
+from eosfill.states import common as states
 from eosfill.constants import R
 from eosfill.errors import InputError
 

@@ -14,7 +14,7 @@ import math
 import numpy as np
 import pytest
 
-from eosfill import heat
+from eosfill.transient import heat
 from eosfill.errors import InputError
 
 

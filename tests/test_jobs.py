@@ -1,4 +1,4 @@
-"""eosfill.jobs: scenarios to results and files; the demo scenarios run.
+"""eosfill.io.jobs: scenarios to results and files; the demo scenarios run.
 
 Consistency and plumbing tests (the physics is checked against outside
 sources in test_vessel.py).
@@ -14,8 +14,8 @@ from pathlib import Path
 import pytest
 
 import eosfill
-from eosfill import jobs
-from eosfill.scenario import load_scenario
+from eosfill.io import jobs
+from eosfill.io.scenario import load_scenario
 
 pytestmark = pytest.mark.filterwarnings("ignore::eosfill.RangeWarning", "ignore::eosfill.LimitWarning")
 DEMOS = sorted((Path(__file__).resolve().parent.parent / "data" / "scenarios").glob("*.toml"))
@@ -61,7 +61,7 @@ def _write(tmp_path, body):
 
 
 def test_transient_kind_runs_through_the_transient_module(tmp_path):
-    """A time-resolved kind goes to eosfill.transient; a constant mass flow into an
+    """A time-resolved kind goes to eosfill.transient.model; a constant mass flow into an
     empty vessel adds exactly flow x time (the run's own duration stop)."""
     sc = _write(tmp_path, """
         kind = "transient_fill"

@@ -1,4 +1,4 @@
-"""Reports (eosfill.report via `eosfill run --report`): end to end on the demo scenarios.
+"""Reports (eosfill.io.report via `eosfill run --report`): end to end on the demo scenarios.
 
 Plumbing and presentation checks: the physics in the reports is checked
 against outside sources in test_vessel.py and test_transient.py.  Expected
@@ -18,7 +18,7 @@ from pathlib import Path
 
 import pytest
 
-from eosfill import cubic
+from eosfill.model import cubic
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -75,7 +75,7 @@ def test_report_is_self_contained_with_caution_inputs_and_plots(demo_report):
     # inputs echoed with the units the user wrote (vessel volume as in the TOML file)
     spec = tomllib.loads((DEMOS / f"{name}.toml").read_text())
     assert f"<td>vessel.volume</td><td>{spec['vessel']['volume']}</td>" in text
-    # model citation (eosfill.cubic) and reference state
+    # model citation (eosfill.model.cubic) and reference state
     model = spec["fluid"].get("model", "PR")
     assert html.escape(cubic.MODELS[model].citation) in text
     assert "298.15 K" in text and "101 325 Pa" in text
@@ -149,7 +149,7 @@ def test_bad_scenario_writes_no_report(tmp_path):
 
 def test_missing_matplotlib_is_a_clear_error_and_writes_nothing(tmp_path):
     sc = _scenario(tmp_path, PASSING_LIMIT)
-    code = ("import sys; sys.modules['matplotlib'] = None; from eosfill.cli import main; "
+    code = ("import sys; sys.modules['matplotlib'] = None; from eosfill.io.cli import main; "
             f"sys.exit(main(['run', {str(sc)!r}, '--report', {str(tmp_path / 'r.html')!r}, "
             f"'--json', {str(tmp_path / 'r.json')!r}]))")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
@@ -159,7 +159,7 @@ def test_missing_matplotlib_is_a_clear_error_and_writes_nothing(tmp_path):
 
 
 def test_import_eosfill_does_not_load_matplotlib():
-    code = "import sys, eosfill, eosfill.jobs; print('matplotlib' in sys.modules)"
+    code = "import sys, eosfill, eosfill.io.jobs; print('matplotlib' in sys.modules)"
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert r.stdout.strip() == "False", r.stderr
 

@@ -1,8 +1,8 @@
 """The hand-optimised single-state kernels against their vectorised oracles.
 
 Consistency checks (the vectorised forms are themselves checked against
-thermo and CoolProp elsewhere): every number of eosfill.scalar must equal
-eosfill.states.props_Tv / the State to round-off.
+thermo and CoolProp elsewhere): every number of eosfill.model.scalar must equal
+eosfill.states.common.props_Tv / the State to round-off.
 """
 import numpy as np
 import pytest
@@ -10,7 +10,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import eosfill
-from eosfill import equilibrium, scalar, states
+from eosfill.equilibrium import solvers as equilibrium
+from eosfill.equilibrium.saturation_curve import saturation_curve
+from eosfill.model import scalar
+from eosfill.states import common as states
 
 NATGAS = {"methane": 0.85, "ethane": 0.07, "propane": 0.04, "nitrogen": 0.02, "carbon dioxide": 0.02}
 
@@ -45,7 +48,7 @@ def test_T_at_v_inverts_props(key):
 
 def test_saturation_curve_classifies_like_the_exact_solve():
     fluid = eosfill.Fluid("carbon dioxide")
-    curve = scalar.saturation_curve(fluid)
+    curve = saturation_curve(fluid)
     T = np.array([230.0, 260.0, 290.0, 300.0])
     sat = equilibrium.saturation_pressure(T, fluid.params)
     for i, t in enumerate(T):
@@ -70,7 +73,7 @@ def test_scalar_state_path_equals_batch_path():
        which=st.sampled_from(["stable", "liquid", "vapour"]))
 def test_lnphi_one_matches_vectorised(model, T, logP, w, which):
     """ln φ of one state in plain floats equals the vectorised (C10) with the same root."""
-    from eosfill import cubic
+    from eosfill.model import cubic
 
     g = eosfill.Fluid(NATGAS, model=model)
     x = np.array(w) / sum(w)

@@ -11,7 +11,7 @@ import re
 import pytest
 
 from eosfill.errors import InputError
-from eosfill.scenario import Scenario, load_scenario
+from eosfill.io.scenario import Scenario, load_scenario
 
 BAR = 1e5
 ATM = 101325.0
@@ -92,7 +92,7 @@ def test_mass_fractions_become_mole_fractions(tmp_path):
     text = VALID.replace('model = "PR"', 'model = "SRK"\nbasis = "mass"').replace(
         "{ methane = 0.9, ethane = 0.06, nitrogen = 0.04 }", "{ methane = 0.5, ethane = 0.5 }")
     sc = load_scenario(write(tmp_path, text))
-    from eosfill.components import get_component
+    from eosfill.model.components import get_component
 
     m1, m2 = get_component("methane").M, get_component("ethane").M
     x1 = (0.5 / m1) / (0.5 / m1 + 0.5 / m2)

@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 
 import eosfill
 from _reference import thermo_flashvl
-from eosfill import equilibrium as eq
+from eosfill.equilibrium import solvers as eq
 from eosfill.errors import ConvergenceError, InputError, RangeWarning
 
 warnings.simplefilter("ignore", RangeWarning)

@@ -1,4 +1,4 @@
-"""Calculation trace (eosfill.trace): its values agree with the State's and
+"""Calculation trace (eosfill.io.trace): its values agree with the State's and
 the roots it prints satisfy the cubic (C5).  Consistency checks; the State
 itself is checked against outside references in the physics tests."""
 import math
@@ -7,9 +7,9 @@ import numpy as np
 import pytest
 
 import eosfill
-from eosfill import cubic
+from eosfill.model import cubic
 from eosfill.constants import R
-from eosfill.trace import format_trace, trace_state, trace_value
+from eosfill.io.trace import format_trace, trace_state, trace_value
 
 CASES = [
     ({"methane": 0.9, "ethane": 0.06, "nitrogen": 0.04}, "PR", 300.0, 20e6),
@@ -95,7 +95,7 @@ def test_every_line_names_equation_and_text_is_ordered():
 # --------------------------------------------------------------------------
 from pathlib import Path  # noqa: E402
 
-from eosfill.trace import trace_fill  # noqa: E402
+from eosfill.io.trace import trace_fill  # noqa: E402
 
 DEMOS = Path(__file__).resolve().parent.parent / "data" / "scenarios"
 
@@ -103,8 +103,8 @@ DEMOS = Path(__file__).resolve().parent.parent / "data" / "scenarios"
 def _demo(name):
     import warnings
 
-    from eosfill import jobs
-    from eosfill.scenario import load_scenario
+    from eosfill.io import jobs
+    from eosfill.io.scenario import load_scenario
 
     sc = load_scenario(DEMOS / f"{name}.toml")
     with warnings.catch_warnings():

@@ -24,7 +24,10 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 import eosfill
-from eosfill import flow, heat, transient
+from eosfill.transient import flow
+from eosfill.transient import heat
+from eosfill.io import transient_run
+from eosfill.transient import model as transient
 from eosfill.constants import R
 from eosfill.errors import InputError, LimitWarning
 
@@ -279,13 +282,13 @@ def test_run_scenario_demo_and_outputs(tmp_path):
     """The demo scenario runs through run_scenario; JSON and CSV are written."""
     from pathlib import Path
 
-    from eosfill.scenario import load_scenario
+    from eosfill.io.scenario import load_scenario
 
     root = Path(__file__).resolve().parent.parent
     sc = load_scenario(root / "data" / "scenarios" / "h2_70MPa_precooled_fill.toml")
     sc.output.json = tmp_path / "r.json"
     sc.output.csv = tmp_path / "r.csv"
-    res = transient.run_scenario(sc)
+    res = transient_run.run_scenario(sc)
     assert res.stop_reason == "target pressure reached"
     assert "licensed practice govern" in str(res)
     assert (tmp_path / "r.json").stat().st_size > 0
@@ -296,8 +299,8 @@ def test_precooling_schedule_and_layered_wall_from_a_scenario(tmp_path):
     """The demo's layered wall and precooling schedule reach the model: balances
     close, and a supply that is cold from the start (no schedule) ends colder
     than one that needs half a minute to cool (consistency; no outside value)."""
-    from eosfill import jobs
-    from eosfill.scenario import load_scenario
+    from eosfill.io import jobs
+    from eosfill.io.scenario import load_scenario
 
     demo = Path(__file__).resolve().parents[1] / "data" / "scenarios" / "h2_70MPa_precooled_fill.toml"
     text = demo.read_text()

@@ -1,11 +1,11 @@
-"""Unit conversions at the outside edge (eosfill.units), checked against the
+"""Unit conversions at the outside edge (eosfill.io.units), checked against the
 exact definitions of the units, each cited beside its check."""
 import math
 
 import pytest
 
 from eosfill.errors import InputError
-from eosfill.units import format_quantity, is_gauge, parse_quantity
+from eosfill.io.units import format_quantity, is_gauge, parse_quantity
 
 REL = 1e-12
 
@@ -153,6 +153,6 @@ def test_import_eosfill_does_not_load_pint():
     import subprocess
     import sys
 
-    code = "import sys, eosfill, eosfill.units; print('pint' in sys.modules)"
+    code = "import sys, eosfill, eosfill.io.units; print('pint' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"

@@ -1,4 +1,4 @@
-"""Vessel balances (eosfill.vessel): fills, vents, cascades, liquefied fills.
+"""Vessel balances (eosfill.vessel.balances): fills, vents, cascades, liquefied fills.
 
 Kinds of test, kept apart:
 * exact limits: ideal-gas closed forms at low pressure (monatomic argon,
@@ -19,9 +19,9 @@ from hypothesis import strategies as st
 
 import eosfill
 from _reference import thermo_eos_kwargs, thermo_flashvl
-from eosfill.cascade import Bank, cascade_fill
-from eosfill.vent import vent
-from eosfill.vessel import Stream, Vessel, fill
+from eosfill.vessel.cascade import Bank, cascade_fill
+from eosfill.vessel.vent import vent
+from eosfill.vessel.balances import Stream, Vessel, fill
 
 pytestmark = pytest.mark.filterwarnings("ignore::eosfill.RangeWarning")
 AR = eosfill.Fluid("argon")
@@ -82,7 +82,7 @@ def test_settled_pressure_vs_ngv_compensation_table(fluid, T_F, table_psi, ref_p
     # We measured PR: methane 4054 / 3142 psig (-0.8 % / +0.3 % of the table), lean gas 4071 / 3125.
     amb = 101325.0
     v_f = fluid.state(T=_F(70.0), P=3600.0 * PSI + amb).v
-    from eosfill.vessel import _settle
+    from eosfill.vessel.balances import _settle
 
     n = 1.0 / v_f
     s = _settle(fluid, fluid.mole_fractions, n, 1.0, _F(T_F))

@@ -49,9 +49,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import cubic
-from .constants import R
-from .errors import ConvergenceError
+from eosfill.model import cubic
+from eosfill.constants import R
+from eosfill.errors import ConvergenceError
 
 # status codes per element
 CONVERGED, MAXITER, NO_ROOT = 0, 1, 2
@@ -164,7 +164,7 @@ def lnphi_root(T, P, x, p, which="stable"):
     One state (shape (1,) / (1, nc)) goes through the plain-float kernel
     :func:`eosfill.scalar.lnphi_one` (the second item is then ``{"Z": Z}``)."""
     if isinstance(which, str) and np.size(T) == 1 and np.ndim(x) == 2 and np.shape(x)[0] == 1:
-        from .scalar import lnphi_one
+        from eosfill.model.scalar import lnphi_one
 
         lp, Z = lnphi_one(float(np.ravel(T)[0]), float(np.ravel(P)[0]), np.ravel(x).tolist(), p, which)
         return np.array([lp]), {"Z": np.array([Z])}
@@ -805,7 +805,7 @@ def bubble_point(z, p, T=None, P=None):
     Give T (solve for P) or P (solve for T).
     """
     if (T is None) == (P is None):
-        from .errors import InputError
+        from eosfill.errors import InputError
 
         raise InputError("bubble_point", (T, P), "exactly one of T or P")
     Tb, Pb, y, _ = _saturation_point(T, P, z, p, "bubble", "P" if T is not None else "T")
@@ -815,7 +815,7 @@ def bubble_point(z, p, T=None, P=None):
 def dew_point(z, p, T=None, P=None):
     """Dew point of a mixture: (T, P, incipient liquid composition x)."""
     if (T is None) == (P is None):
-        from .errors import InputError
+        from eosfill.errors import InputError
 
         raise InputError("dew_point", (T, P), "exactly one of T or P")
     Td, Pd, x, _ = _saturation_point(T, P, z, p, "dew", "P" if T is not None else "T")

@@ -50,8 +50,8 @@ import sys
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
-from .errors import InputError
-from .units import STANDARD_ATMOSPHERE, format_quantity, parse_quantity
+from eosfill.errors import InputError
+from eosfill.io.units import STANDARD_ATMOSPHERE, format_quantity, parse_quantity
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -291,7 +291,7 @@ class Scenario:
         with ``scenario.fluid().with_composition(scenario.mole_fractions(...))``.
         """
         if self._fluid is None:
-            from .fluid import Fluid
+            from eosfill.states.fluid import Fluid
 
             spec = self.fluid_spec
             comp = {n: spec.composition.get(n, 0.0) for n in self.component_names()}
@@ -479,7 +479,7 @@ class _Context:
 
     def composition(self, raw, key_path):
         """{name: fraction} or a name -> {canonical name: mole fraction}."""
-        from .components import get_component
+        from eosfill.model.components import get_component
 
         if isinstance(raw, str):
             raw = {raw: 1.0}
@@ -613,7 +613,7 @@ def scenario_from_dict(data: dict, ctx=None) -> Scenario:
 
 
 def _gauge(raw) -> bool:
-    from .units import is_gauge
+    from eosfill.io.units import is_gauge
 
     return is_gauge(raw)
 
@@ -632,7 +632,7 @@ def _read_fluid(top, ctx) -> FluidSpec:
     raw = sec.data.get("kij", [])
     if not isinstance(raw, list):
         raise ctx.error("fluid.kij", raw, 'expected a list of tables [[fluid.kij]] with pair = ["a", "b"] and kij = 0.1')
-    from .components import get_component
+    from eosfill.model.components import get_component
 
     for i, item in enumerate(raw):
         kp = f"fluid.kij[{i}]"
@@ -664,7 +664,7 @@ def _read_vessel(top, ctx) -> Vessel:
     layers = []
     raw = sec.data.get("wall_layers")
     if raw is not None:
-        from .heat import Layer
+        from eosfill.transient.heat import Layer
 
         if not isinstance(raw, list) or not raw or not all(isinstance(b, dict) for b in raw):
             raise ctx.error("vessel.wall_layers", raw, "expected one or more [[vessel.wall_layers]] tables")

@@ -34,7 +34,6 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import EosfillError
 
 CAUTION_TITLE = "Caution"
 CAUTION_TEXT = ("Results are estimates from an equation of state and simplified heat-transfer models "
@@ -43,20 +42,6 @@ CAUTION_TEXT = ("Results are estimates from an equation of state and simplified 
                 "before trusting a mass.")
 REFERENCE_STATE = ("Reference state: each component as ideal gas with H = 0 and S = 0 at 298.15 K and "
                    "101 325 Pa (enthalpies, internal energies and entropies in this report are relative to it).")
-MISSING_MATPLOTLIB = ("the report's plots need matplotlib, which is not installed; install it with "
-                      "\"pip install matplotlib\" (or eosfill's report extra), or run without --report")
-
-
-def require_matplotlib():
-    """Import matplotlib (Agg canvas only) or raise EosfillError with an install hint."""
-    try:
-        import matplotlib  # noqa: F401
-        from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: F401
-        from matplotlib.figure import Figure  # noqa: F401
-    except ImportError:
-        raise EosfillError(MISSING_MATPLOTLIB) from None
-
-
 # --------------------------------------------------------------------------
 # blocks of a report
 # --------------------------------------------------------------------------
@@ -202,7 +187,7 @@ class _Fmt:
         self.si = out is not None and out.units == "SI"
 
     def q(self, value, kind):
-        from .units import format_quantity
+        from eosfill.io.units import format_quantity
 
         if value is None:
             return "—"
@@ -223,7 +208,7 @@ class _Fmt:
         return f"{self.q(value, 'temperature')} ({self.n(value)} K)"
 
     def n(self, value, digits=None):
-        from .units import format_number
+        from eosfill.io.units import format_number
 
         if value is None:
             return "—"
@@ -402,7 +387,7 @@ def input_rows(scenario, fmt=None):
 @functools.lru_cache(maxsize=1)
 def _source_citations():
     """{key: citation} from data/SOURCES.md (empty if the file is not found)."""
-    from .components import data_dir
+    from eosfill.model.components import data_dir
 
     out = {}
     for cand in (Path(data_dir()) / "SOURCES.md", Path(data_dir()).parent / "SOURCES.md"):
@@ -480,7 +465,7 @@ def _state_rows(fmt, states, V):
 
 
 def result_blocks(rep, scenario, result, fmt):
-    from .vessel import Result
+    from eosfill.vessel.balances import Result
 
     rep.heading("Results")
     if not isinstance(result, Result):
@@ -579,7 +564,7 @@ def _transient_blocks(rep, scenario, r, fmt):
 
 
 def balance_blocks(rep, scenario, result, fmt, trace_lines=None):
-    from .vessel import Result
+    from eosfill.vessel.balances import Result
 
     rep.heading("Energy and mass balance")
     if not isinstance(result, Result):
@@ -597,7 +582,7 @@ def balance_blocks(rep, scenario, result, fmt, trace_lines=None):
     e = r.energy
     rows = []
     if trace_lines:
-        from .trace import trace_value
+        from eosfill.io.trace import trace_value
 
         keys = [("nf_uf", "n_f u_f (final internal energy)"), ("n0_u0", "n_0 u_0 (initial internal energy)"),
                 ("wall", "C_w (T_f − T_w0) (taken up by the wall)"), ("H_in", "enthalpy brought in"),
@@ -651,7 +636,7 @@ def limit_blocks(rep, scenario, result, fmt):
 # --------------------------------------------------------------------------
 def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     """The report's blocks for a scenario and its result (vessel.Result or a time-resolved result)."""
-    from .vessel import Result
+    from eosfill.vessel.balances import Result
 
     fmt = _Fmt(scenario)
     title = scenario.title or (scenario.path.stem if scenario.path else "eosfill result")
@@ -669,7 +654,7 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     result_blocks(rep, scenario, result, fmt)
     balance_blocks(rep, scenario, result, fmt, trace_lines)
     if plots:
-        from .report_plots import plot_cascade, plot_path, plot_time_series
+        from eosfill.io.plots import plot_cascade, plot_path, plot_time_series
 
         rep.heading("Plots")
         if not isinstance(result, Result):
@@ -684,7 +669,7 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
             png, cap = plot_cascade(scenario, result)
             rep.figure("cascade", png, cap)
     if trace_lines:
-        from .trace import format_trace
+        from eosfill.io.trace import format_trace
 
         rep.heading("Calculation trace")
         rep.para("The balance with every number substituted, then every intermediate value of the end state "
@@ -697,13 +682,13 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
 
 def balance_trace(scenario, result):
     """The balance trace of a steady result (None for time-resolved results or on failure)."""
-    from . import jobs
-    from .trace import trace_fill
-    from .vessel import Result
+    from eosfill.io.inputs import _vessel_of
+    from eosfill.io.trace import trace_fill
+    from eosfill.vessel.balances import Result
 
     if not isinstance(result, Result):
         return None
-    v = jobs._vessel_of(scenario)
+    v = _vessel_of(scenario)
     return trace_fill(scenario.fluid(), result, v.wall_heat_capacity, v.wall_temperature)
 
 
@@ -713,6 +698,8 @@ def write_report(scenario, result, path, trace=True):
     The Markdown's plots are written beside it as ``<stem>.<plot>.png``.
     Returns the list of files written.
     """
+    from eosfill.io.plots import require_matplotlib
+
     require_matplotlib()
     path = Path(path)
     lines = balance_trace(scenario, result) if trace else None

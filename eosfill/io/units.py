@@ -33,7 +33,7 @@ import math
 import re
 from dataclasses import dataclass
 
-from .errors import InputError
+from eosfill.errors import InputError
 
 STANDARD_ATMOSPHERE = 101325.0  # Pa, exact (BIPM SI Brochure 9th ed. 2019, Table 8: 1 atm = 101 325 Pa)
 

@@ -11,9 +11,8 @@ import math
 
 import numpy as np
 
-from .errors import ConvergenceError, InputError
-from .vessel import (VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f,
-                     _initial_content, _limit_flags, _molar_mass, _positive, _state, common_fluid)
+from eosfill.errors import ConvergenceError, InputError
+from eosfill.vessel.balances import VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _positive, _state, common_fluid
 
 def _gauss_legendre(a, b, m=24, panels=4):
     x, w = np.polynomial.legendre.leggauss(m)

@@ -44,7 +44,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import InputError
+from eosfill.errors import InputError
 
 G_STANDARD = 9.80665  # m/s², standard acceleration of gravity (CGPM 1901)
 

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from eosfill.errors import InputError
 
 _CP_COLUMNS = ("cp_a0", "cp_a1", "cp_a2", "cp_a3", "cp_a4")
 
@@ -31,8 +31,8 @@ def data_dir() -> Path:
     Installed from a wheel the data sit in ``eosfill/data``; in a source
     checkout (or an editable install) they sit in ``data/`` beside the package.
     """
-    here = Path(__file__).resolve().parent
-    for candidate in (here / "data", here.parent / "data"):
+    package = Path(__file__).resolve().parents[1]  # eosfill/
+    for candidate in (package / "data", package.parent / "data"):
         if (candidate / "fluids" / "fluids.csv").is_file():
             return candidate
     raise FileNotFoundError(

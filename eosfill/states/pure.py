@@ -10,14 +10,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import equilibrium
-from .constants import R
-from .errors import ConvergenceError, InputError
-from .fluid import Fluid, _out
-from .states import (_T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP,
-                     props_Tv)
+from eosfill.equilibrium import solvers as equilibrium
+from eosfill.constants import R
+from eosfill.errors import ConvergenceError, InputError
+from eosfill.model.mixture import Mixture
+from eosfill.model.mixture import _out
+from eosfill.states.common import _T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP, props_Tv
 
-def _pure_Tv(fluid: Fluid, T, v):
+def _pure_Tv(fluid: Mixture, T, v):
     """Pure-fluid state at (T, v): single phase or split on the saturation curve."""
     p = fluid.params
     c = fluid.volume_shift[0]
@@ -51,7 +51,7 @@ def _pure_Tv(fluid: Fluid, T, v):
     return out
 
 
-def _solve_fixed_v(fluid: Fluid, v, key, target):
+def _solve_fixed_v(fluid: Mixture, v, key, target):
     """Pure fluid: find T with prop(T, v) = target, prop in (u, h, s)."""
     Tlo, Thi = _T_bounds(fluid)
     b = float(fluid.params.b[0]) - fluid.volume_shift[0]
@@ -79,14 +79,15 @@ def _solve_fixed_v(fluid: Fluid, v, key, target):
     return _assemble_pure(fluid, T, st)
 
 
-def _pure_fixed_v_scalar(fluid: Fluid, v, key, target):
+def _pure_fixed_v_scalar(fluid: Mixture, v, key, target):
     """One pure-fluid state at fixed v by the scalar kernel (:mod:`eosfill.scalar`).
 
     Valid when the single-phase solution lies clearly outside the
     saturation dome (then it is the stable state: for a pure fluid every
     (T, v) outside the dome is stable); otherwise returns None and the
     vectorised path decides."""
-    from . import scalar
+    from eosfill.equilibrium.saturation_curve import saturation_curve
+    from eosfill.model import scalar
 
     b = float(fluid.params.b[0]) - fluid.volume_shift[0]
     if not v > b:
@@ -102,7 +103,7 @@ def _pure_fixed_v_scalar(fluid: Fluid, v, key, target):
     P = k.props_Tv(T, v)[0]
     if not P > 0.0:
         return None
-    if T < float(fluid.Tc[0]) and scalar.saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):
+    if T < float(fluid.Tc[0]) and saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):
         return None
     st = fluid.single_phase(np.array([T]), np.array([P]))
     if abs(st._v[0] - v) > 1e-9 * v:  # lowest-Gibbs root is not this volume: let the general path decide
@@ -110,7 +111,7 @@ def _pure_fixed_v_scalar(fluid: Fluid, v, key, target):
     return st
 
 
-def _assemble_pure(fluid: Fluid, T, st):
+def _assemble_pure(fluid: Mixture, T, st):
     """Build the State of a pure fluid from (T, P, split) arrays."""
     P = st["P"]
     two = st["two"]
@@ -129,7 +130,7 @@ def _assemble_pure(fluid: Fluid, T, st):
     return _compose(fluid, stable, liq, vap, two, st["beta"])
 
 
-def _pure_fixed_P(fluid: Fluid, P, key, target):
+def _pure_fixed_P(fluid: Mixture, P, key, target):
     """Pure fluid: state at P with prop = target, prop in (h, s, u, v)."""
     p = fluid.params
     Pc = p.Pc[0]
@@ -179,7 +180,7 @@ def _pure_fixed_P(fluid: Fluid, P, key, target):
     return _pure_split_state(fluid, T, P, two, beta)
 
 
-def _pure_split_state(fluid: Fluid, T, P, two, beta):
+def _pure_split_state(fluid: Mixture, T, P, two, beta):
     """State of a pure fluid at (T, P): single phase where ``two`` is False,
     saturated liquid and vapour (smallest and largest roots) mixed by β where True."""
     stable = fluid.single_phase(T, P)
@@ -190,11 +191,11 @@ def _pure_split_state(fluid: Fluid, T, P, two, beta):
     return _compose(fluid, stable, liq, vap, two, beta)
 
 
-def _pure_TP(fluid: Fluid, T, P):
+def _pure_TP(fluid: Mixture, T, P):
     return fluid.single_phase(T, P)
 
 
-def _pure_fixed_T(fluid: Fluid, T, key, target):
+def _pure_fixed_T(fluid: Mixture, T, key, target):
     """Pure fluid: state at T with s = target (1-D in ln P; s falls with P)."""
     if key != "s":
         raise InputError("state()", ("T", key), "T with P, v or s")

@@ -66,7 +66,7 @@ from typing import Callable
 
 import numpy as np
 
-from .constants import R
+from eosfill.constants import R
 
 SQRT2 = np.sqrt(2.0)
 

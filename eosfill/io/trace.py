@@ -22,9 +22,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import cubic, idealgas
-from .constants import P0, R, T0
-from .errors import InputError
+from eosfill.model import cubic
+from eosfill.model import idealgas
+from eosfill.constants import P0, R, T0
+from eosfill.errors import InputError
 
 MM2007 = "Michelsen & Mollerup 2007, ch. 3"
 POLING = "Poling, Prausnitz & O'Connell 2001, App. A"

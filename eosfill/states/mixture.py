@@ -8,13 +8,15 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import cubic, equilibrium
-from .constants import R
-from .errors import ConvergenceError, InputError
-from .fluid import Fluid, _out
-from .states import _T_bounds, _compose, _raise_if, illinois, props_TP, props_Tv
+from eosfill.model import cubic
+from eosfill.equilibrium import solvers as equilibrium
+from eosfill.constants import R
+from eosfill.errors import ConvergenceError, InputError
+from eosfill.model.mixture import Mixture
+from eosfill.model.mixture import _out
+from eosfill.states.common import _T_bounds, _compose, _raise_if, illinois, props_TP, props_Tv
 
-def _mixture_from_flash(fluid: Fluid, T, P, fl):
+def _mixture_from_flash(fluid: Mixture, T, P, fl):
     """State of a mixture from a TP flash result (arrays of shape (n,))."""
     two = fl["two_phase"]
     stable = fluid.single_phase(T, P)

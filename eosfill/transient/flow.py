@@ -63,8 +63,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .constants import R
-from .errors import ConvergenceError, InputError
+from eosfill.constants import R
+from eosfill.errors import ConvergenceError, InputError
 
 # IEC 60534-2-1 numerical constants (Table 1 of the standard; values as
 # reproduced in ISA-75.01.01-2007 Table 1, from memory; checked in the tests
@@ -106,7 +106,7 @@ class TVKernel:
     """
 
     def __init__(self, fluid, x=None):
-        from .scalar import FixedComposition
+        from eosfill.model.scalar import FixedComposition
 
         p = fluid.params
         x = np.array(fluid.mole_fractions if x is None else x, dtype=float)
@@ -128,8 +128,8 @@ class TVKernel:
             vs = float(v_eos) - self.c_shift
             P, u, h, s, cv, dPdT, dPdv = self._fc.props_Tv(float(T), vs)
             return dict(P=P, u=u, h=h, s=s, cv=cv, dPdT=dPdT, dPdv=dPdv, v=vs)
-        from .cubic import dP_dT_v, dP_dv_T, mixture_a
-        from .states import props_Tv
+        from eosfill.model.cubic import dP_dT_v, dP_dv_T, mixture_a
+        from eosfill.states.common import props_Tv
 
         T = np.asarray(T, dtype=float)
         v = np.asarray(v_eos, dtype=float)
@@ -177,7 +177,7 @@ class TVKernel:
 def gas_state_TP(fluid, T, P, x=None):
     """Stable single-phase v_eos and properties at (T, P) with the kernel (start point of
     :meth:`TVKernel.v_from_TP` from the cubic's lowest-Gibbs root)."""
-    from .cubic import solve_volume_from_TP
+    from eosfill.model.cubic import solve_volume_from_TP
 
     x = fluid.mole_fractions if x is None else np.asarray(x, dtype=float)
     sol = solve_volume_from_TP(T, P, x, fluid.params, which="stable")
@@ -351,7 +351,7 @@ class IsentropicNozzle:
         present = x > 0
         if self.T_star >= 1.1 * float(np.max(fl.Tc[present])):
             return False
-        from . import equilibrium
+        from eosfill.equilibrium import solvers as equilibrium
 
         if fl.is_pure:
             if self.T_star >= fl.Tc[0]:

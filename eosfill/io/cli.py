@@ -15,12 +15,11 @@ Examples::
 from __future__ import annotations
 
 import argparse
-import importlib.util
 import sys
 import warnings
 
-from . import __version__
-from .errors import EosfillError, InputError
+from eosfill import __version__
+from eosfill.errors import EosfillError, InputError
 
 EXIT_OK, EXIT_INPUT, EXIT_SOLVER = 0, 2, 3
 
@@ -70,7 +69,7 @@ def parse_kij_text(items) -> dict:
 
 
 def _make_fluid(args):
-    from .fluid import Fluid
+    from eosfill.states.fluid import Fluid
 
     return Fluid(parse_fluid_text(args.fluid), model=args.model, kij=parse_kij_text(args.kij) or None,
                  basis=args.basis, normalise=args.normalise)
@@ -101,7 +100,7 @@ def _row(label, value, unit, alt=None):
 def _state_table(fluid, st):
     import numpy as np
 
-    from .units import format_number as fn
+    from eosfill.io.units import format_number as fn
 
     M = st.molar_mass
     rows = [
@@ -155,7 +154,7 @@ def _state_table(fluid, st):
 # commands
 # --------------------------------------------------------------------------
 def cmd_state(args):
-    from .units import parse_quantity
+    from eosfill.io.units import parse_quantity
 
     fluid = _make_fluid(args)
     amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
@@ -175,8 +174,8 @@ def cmd_state(args):
 
 
 def cmd_explain(args):
-    from .trace import format_trace, trace_state
-    from .units import parse_quantity
+    from eosfill.io.trace import format_trace, trace_state
+    from eosfill.io.units import parse_quantity
 
     if args.scenario is not None:
         return _explain_scenario(args)
@@ -194,10 +193,10 @@ def cmd_explain(args):
 
 def _explain_scenario(args):
     """The balance of a scenario's end state with its numbers, and the end state's trace."""
-    from . import jobs
-    from .report import balance_trace
-    from .scenario import load_scenario
-    from .trace import format_trace
+    from eosfill.io import jobs
+    from eosfill.io.report import balance_trace
+    from eosfill.io.scenario import load_scenario
+    from eosfill.io.trace import format_trace
 
     scenario = load_scenario(args.scenario)
     if scenario.kind not in ("fill", "cascade_fill", "liquefied_fill", "vent"):
@@ -231,7 +230,7 @@ def _require_report_tools(scenario):
     """A report needs matplotlib: say so before anything is computed or written."""
     if scenario.output.report is None:
         return
-    from .report import require_matplotlib
+    from eosfill.io.plots import require_matplotlib
 
     try:
         require_matplotlib()
@@ -240,7 +239,7 @@ def _require_report_tools(scenario):
 
 
 def cmd_fluids(args):
-    from .components import load_components
+    from eosfill.model.components import load_components
 
     comps, _ = load_components()
     header = ("name", "formula", "CAS", "M g/mol", "Tc K", "Pc bar", "omega", "critical data", "Cp° data")
@@ -258,7 +257,7 @@ def cmd_fluids(args):
 def cmd_run(args):
     from pathlib import Path
 
-    from .scenario import load_scenario
+    from eosfill.io.scenario import load_scenario
 
     scenario = load_scenario(args.scenario)
     for key in ("json", "csv", "report"):
@@ -274,12 +273,7 @@ def cmd_run(args):
     _require_report_tools(scenario)
     for line in scenario.summary():
         print(line)
-    if importlib.util.find_spec("eosfill.jobs") is None:
-        print(f"eosfill: scenario {args.scenario} is valid, but this eosfill has no solver for "
-              f"kind {scenario.kind!r} yet (module eosfill.jobs is missing); nothing was computed "
-              "or written.", file=sys.stderr)
-        return EXIT_SOLVER
-    from . import jobs
+    from eosfill.io import jobs
 
     bar, progress = _progress_bar(scenario)
     try:

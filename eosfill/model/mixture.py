@@ -1,10 +1,10 @@
-"""The public face of the engine: :class:`Fluid` and the :class:`State` it returns.
+"""A mixture of fixed composition with its cubic model, and the :class:`State` it evaluates.
 
->>> import eosfill
->>> gas = eosfill.Fluid({"methane": 0.9, "ethane": 0.06, "nitrogen": 0.04}, model="PR")
->>> st = gas.state(T=300.0, P=20e6)
->>> round(st.Z, 3)
-0.879
+:class:`Mixture` holds what every layer above computes with (components,
+composition, model, k_ij, volume shift) and evaluates single-phase states at
+(T, P) — no phase-split test.  The public :class:`eosfill.Fluid`
+(``eosfill.states.fluid``) adds ``.state(**pair)``, the equilibrium state
+solvers.
 
 Molar SI throughout (K, Pa, m³/mol, J/mol, J/(mol K)); ``*_mass`` properties
 per kg.  Reference state: each component as ideal gas with H = 0, S = 0 at
@@ -16,10 +16,11 @@ from functools import cached_property
 
 import numpy as np
 
-from . import cubic, idealgas
-from .components import get_component, kij_matrix
-from .constants import R
-from .errors import EosfillError, InputError
+from eosfill.model import cubic
+from eosfill.model import idealgas
+from eosfill.model.components import get_component, kij_matrix
+from eosfill.constants import R
+from eosfill.errors import EosfillError, InputError
 
 PHASES = ("gas", "liquid", "supercritical", "two-phase")
 GAS, LIQUID, SUPERCRITICAL, TWO_PHASE = 0, 1, 2, 3
@@ -50,7 +51,7 @@ def _out(arr):
     return arr
 
 
-class Fluid:
+class Mixture:
     """A pure fluid or a mixture of fixed composition, with a cubic model.
 
     Parameters
@@ -77,8 +78,8 @@ class Fluid:
 
     Examples
     --------
-    >>> pure = Fluid("nitrogen", model="SRK")
-    >>> round(pure.state(T=300.0, P=1e5).Z, 4)
+    >>> pure = Mixture("nitrogen", model="SRK")
+    >>> round(pure.single_phase(T=300.0, P=1e5).Z, 4)
     0.9998
     """
 
@@ -185,33 +186,18 @@ class Fluid:
 
     def __repr__(self):
         if self.is_pure:
-            return f"Fluid({self.names[0]!r}, model={self.model.name!r})"
+            return f"{type(self).__name__}({self.names[0]!r}, model={self.model.name!r})"
         comp = ", ".join(f"{n!r}: {x:.6g}" for n, x in zip(self.names, self.mole_fractions))
-        return f"Fluid({{{comp}}}, model={self.model.name!r})"
+        return f"{type(self).__name__}({{{comp}}}, model={self.model.name!r})"
 
     def with_composition(self, x):
         """The same components and model with other mole fractions (kij kept)."""
-        new = object.__new__(Fluid)
+        new = object.__new__(type(self))
         new.__dict__.update(self.__dict__)
         x = np.array(x, dtype=float)
         x.setflags(write=False)
         new.mole_fractions = x
         return new
-
-    # ------------------------------------------------------------------
-    def state(self, **spec):
-        """The equilibrium state at one pair of specifications.
-
-        Exactly two of ``T`` [K], ``P`` [Pa], ``v`` [m³/mol], ``h`` [J/mol],
-        ``u`` [J/mol], ``s`` [J/(mol K)]; scalars or arrays that broadcast.
-
-        Returns
-        -------
-        State
-        """
-        from .states import solve_state
-
-        return solve_state(self, **spec)
 
     def single_phase(self, T, P, x=None, which="stable"):
         """A single-phase state at T, P (no phase-split test).
@@ -240,7 +226,7 @@ class Fluid:
         return float(self.Tc[0]), float(self.Pc[0])
 
 
-def _single_phase_state(fluid: Fluid, T, P, x, which="stable"):
+def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     p = fluid.params
     sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
     Z, a, a_T, b, B = sol["Z"], sol["a"], sol["a_T"], sol["b"], sol["B"]
@@ -278,7 +264,7 @@ def _single_phase_state(fluid: Fluid, T, P, x, which="stable"):
 
 
 class State:
-    """An equilibrium state (or a batch of them) of a :class:`Fluid`.
+    """An equilibrium state (or a batch of them) of a :class:`Mixture` (or :class:`eosfill.Fluid`).
 
     Every attribute is a float for a scalar specification and an array of
     the broadcast shape for a batch.  Molar SI units; ``*_mass`` per kg.
@@ -294,7 +280,7 @@ class State:
         In rows that are single-phase both hold that single phase.
     """
 
-    def __init__(self, fluid: Fluid):
+    def __init__(self, fluid: Mixture):
         self.fluid = fluid
         self.liquid = None
         self.vapour = None

@@ -10,14 +10,27 @@ import io
 
 import numpy as np
 
-from .errors import EosfillError
-from .report import require_matplotlib
+from eosfill.errors import EosfillError
 
 def _z_vec(fluid, comp):
     z = np.zeros(fluid.nc)
     for k, x in (comp or {}).items():
         z[fluid.names.index(k)] = x
     return z
+
+
+MISSING_MATPLOTLIB = ("the report's plots need matplotlib, which is not installed; install it with "
+                      "\"pip install matplotlib\" (or eosfill's report extra), or run without --report")
+
+
+def require_matplotlib():
+    """Import matplotlib (Agg canvas only) or raise EosfillError with an install hint."""
+    try:
+        import matplotlib  # noqa: F401
+        from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: F401
+        from matplotlib.figure import Figure  # noqa: F401
+    except ImportError:
+        raise EosfillError(MISSING_MATPLOTLIB) from None
 
 
 def _props(fluid, z, T, v):
@@ -40,7 +53,7 @@ def path_states(scenario, result, max_points=40):
     line between them is not the path), ``others`` (supply or bank states:
     lists of such dicts with a ``label``), and ``z_final`` (mole fractions).
     """
-    from .vessel import Result
+    from eosfill.vessel.balances import Result
 
     fluid = scenario.fluid()
     V = scenario.vessel.volume
@@ -143,8 +156,8 @@ def path_states(scenario, result, max_points=40):
 @functools.lru_cache(maxsize=16)
 def _dome_cached(names, z, model, kij, shift):
     """Two-phase boundary (T [K], s [J/(kg K)]) lines: pure saturation curve or bubble/dew curves."""
-    from . import equilibrium
-    from .fluid import Fluid
+    from eosfill.equilibrium import solvers as equilibrium
+    from eosfill.states.fluid import Fluid
 
     comp = {n: x for n, x in zip(names, z) if x > 0}
     kd = {}

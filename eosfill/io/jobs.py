@@ -4,7 +4,7 @@ balances of :mod:`eosfill.vessel` and write the files it asks for.
 ``eosfill run FILE`` calls :func:`run_scenario`; it prints ``str(result)``.
 Kinds: ``fill``, ``cascade_fill``, ``liquefied_fill`` and ``vent`` here;
 ``transient_fill`` and ``transient_vent`` are handed to
-``eosfill.transient.run_scenario`` when that module exists.
+``eosfill.io.transient_run.run_scenario``.
 
 Each flag raised in a result is also issued as a
 :class:`eosfill.errors.LimitWarning`.
@@ -15,61 +15,12 @@ local codes, the vessel's approval documents and licensed practice govern.
 from __future__ import annotations
 
 import csv
-import importlib.util
 import json
 import warnings
 
-from .errors import EosfillError, InputError, LimitWarning
-from .scenario import TRANSIENT_KINDS
-
-_STOP_KEYS = ("target_pressure", "target_mass", "target_settled_pressure", "target_fill_density",
-              "supply_pressure")
-
-
-def _stop_of(scenario):
-    s = scenario.stop
-    for key in _STOP_KEYS:
-        val = getattr(s, key)
-        if val is not None and val is not False:
-            return key, (None if key == "supply_pressure" else val)
-    raise InputError("stop", None, "one of " + ", ".join(_STOP_KEYS))
-
-
-def _limits(scenario):
-    from dataclasses import asdict
-
-    return {k: v for k, v in asdict(scenario.limits).items() if v is not None}
-
-
-def _fluid_of(scenario, composition):
-    return scenario.fluid().with_composition(scenario.mole_fractions(composition))
-
-
-def _vessel_of(scenario):
-    from .vessel import Vessel
-
-    v = scenario.vessel
-    Cw = 0.0
-    if v.wall_mass is not None and v.wall_specific_heat is not None:
-        Cw = v.wall_mass * v.wall_specific_heat
-    elif (v.wall_mass is None) != (v.wall_specific_heat is None):
-        missing = "vessel.wall_specific_heat" if v.wall_specific_heat is None else "vessel.wall_mass"
-        raise InputError(missing, None, "both vessel.wall_mass and vessel.wall_specific_heat, or neither")
-    ini = scenario.initial
-    Tw = ini.wall_temperature
-    if Tw is None:
-        Tw = ini.temperature if ini.temperature is not None else scenario.ambient.temperature
-    return Vessel(v.volume, wall_heat_capacity=Cw, wall_temperature=Tw if Cw > 0 else None)
-
-
-def _initial_of(scenario):
-    from .vessel import Stream
-
-    ini = scenario.initial
-    if ini.empty:
-        return None
-    return Stream(_fluid_of(scenario, ini.composition), ini.temperature, P=ini.pressure, mass=ini.mass)
-
+from eosfill.errors import InputError, LimitWarning
+from eosfill.io.inputs import _fluid_of, _initial_of, _limits, _stop_of, _vessel_of  # noqa: F401
+from eosfill.io.scenario import TRANSIENT_KINDS
 
 def run_scenario(scenario, write=True, progress=None):
     """Compute a scenario's result and write its json/csv/report files.
@@ -82,26 +33,22 @@ def run_scenario(scenario, write=True, progress=None):
     -------
     eosfill.vessel.Result (or the transient module's result)
     """
-    from . import vessel as vs
-    from .cascade import Bank, cascade_fill
-    from .vent import vent
+    from eosfill.vessel import balances as vs
+    from eosfill.vessel.cascade import Bank, cascade_fill
+    from eosfill.vessel.vent import vent
 
     kind = scenario.kind
     if kind in TRANSIENT_KINDS:
-        if importlib.util.find_spec("eosfill.transient") is not None:
-            from . import transient
+        from eosfill.io import transient_run
 
-            if hasattr(transient, "run_scenario"):
-                if not write:
-                    from dataclasses import replace
+        if not write:
+            from dataclasses import replace
 
-                    scenario = replace(scenario, output=replace(scenario.output, json=None, csv=None, report=None))
-                result = transient.run_scenario(scenario, progress=progress)  # writes its own json/csv
-                if write and scenario.output.report is not None:
-                    write_report(scenario, result)
-                return result
-        raise EosfillError(f"kind {kind!r} (time-resolved) is not available in this eosfill yet; "
-                           "the end-state kinds fill, cascade_fill, liquefied_fill and vent are")
+            scenario = replace(scenario, output=replace(scenario.output, json=None, csv=None, report=None))
+        result = transient_run.run_scenario(scenario, progress=progress)  # writes its own json/csv
+        if write and scenario.output.report is not None:
+            write_report(scenario, result)
+        return result
     vessel = _vessel_of(scenario)
     initial = _initial_of(scenario)
     limits = _limits(scenario)
@@ -159,7 +106,7 @@ def write_outputs(scenario, result):
     """Write ``scenario.output.json`` / ``.csv`` / ``.report`` if set."""
     out = scenario.output
     if out.report is not None:  # fail before anything is written when the report cannot be made
-        from .report import require_matplotlib
+        from eosfill.io.plots import require_matplotlib
 
         require_matplotlib()
     if out.json is not None:
@@ -181,6 +128,6 @@ def write_report(scenario, result):
     """Write the HTML report at ``scenario.output.report`` and its Markdown twin (:mod:`eosfill.report`).
 
     Raises EosfillError (with an install hint) when matplotlib is missing."""
-    from . import report
+    from eosfill.io import report
 
     return report.write_report(scenario, result, scenario.output.report)

@@ -37,8 +37,8 @@ import warnings
 
 import numpy as np
 
-from .constants import P0, R, T0
-from .errors import RangeWarning
+from eosfill.constants import P0, R, T0
+from eosfill.errors import RangeWarning
 
 _K = np.arange(5.0)
 

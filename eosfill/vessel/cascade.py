@@ -10,11 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
-from .vent import _gauss_legendre
-from .vessel import (FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict,
-                     _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg,
-                     _overfill_flag, _positive, _scan_first, _settle, _state, common_fluid)
+from eosfill.errors import InputError
+from eosfill.vessel.vent import _gauss_legendre
+from eosfill.vessel.balances import FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict, _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg, _overfill_flag, _positive, _scan_first, _settle, _state, common_fluid
 
 @dataclass
 class Bank:

@@ -54,8 +54,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .constants import R
-from .errors import ConvergenceError, InputError
+from eosfill.constants import R
+from eosfill.errors import ConvergenceError, InputError
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models (adiabatic or "
            "lumped-wall balances); local codes, the vessel's approval documents and licensed "
@@ -163,7 +163,7 @@ def common_fluid(*fluids):
     (in the same order) share the first one; otherwise the union is built
     with every k_ij carried over (a pair in two fluids must have one value).
     """
-    from .fluid import Fluid
+    from eosfill.states.fluid import Fluid
 
     first = fluids[0]
     if all(f.names == first.names and f.model is first.model for f in fluids):
@@ -296,7 +296,7 @@ def _energy_scale(n, T):
 # results
 # --------------------------------------------------------------------------
 def _qty(value, kind, digits=6):
-    from .units import format_quantity
+    from eosfill.io.units import format_quantity
 
     if value is None:
         return "n/a"
@@ -516,7 +516,7 @@ def _overfill_flag(settled, flags):
 def _limit_flags(final: EndState, limits, flags, lowest_T=None, highest_T=None):
     if not limits:
         return
-    from .units import format_quantity as fq
+    from eosfill.io.units import format_quantity as fq
 
     hiT = final.T if highest_T is None else highest_T
     loT = final.T if lowest_T is None else lowest_T
@@ -807,7 +807,7 @@ def liquid_full_temperature(fluid, z, v, T_start, T_max=None):
 
 def _liquid_density_at(fluid, z, T):
     """Saturated (bubble-point) liquid density at T [kg/m³], or None above the critical point."""
-    from . import equilibrium
+    from eosfill.equilibrium import solvers as equilibrium
 
     f = fluid.with_composition(z)
     try:
@@ -827,7 +827,7 @@ def _liquid_density_at(fluid, z, T):
 
 
 def _pure_params(fluid, i):
-    from .fluid import Fluid
+    from eosfill.states.fluid import Fluid
 
     return Fluid(fluid.names[i], model=fluid.model.name).params
 
@@ -871,18 +871,3 @@ def _liquefied_figures(fluid, z, n, V, final: EndState, lim, flags, defaults=Tru
             flags.append(f"the vessel becomes liquid-full at {out['liquid_full_T'] - 273.15:.4g} °C, at or below "
                          "60 °C (P200 default, to confirm)")
     return out
-
-
-# --------------------------------------------------------------------------
-# vents and cascade fills live in their own modules (eosfill.vent,
-# eosfill.cascade); they stay reachable here as eosfill.vessel.vent etc.
-# --------------------------------------------------------------------------
-_MOVED = {"vent": "vent", "cascade_fill": "cascade", "Bank": "cascade"}
-
-
-def __getattr__(name):
-    if name in _MOVED:
-        import importlib
-
-        return getattr(importlib.import_module(f".{_MOVED[name]}", __package__), name)
-    raise AttributeError(f"module 'eosfill.vessel' has no attribute {name!r}")

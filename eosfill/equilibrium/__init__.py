@@ -1,0 +1,16 @@
+"""Phase equilibrium on the model layer: Wilson K, Rachford-Rice, pure-fluid
+saturation, tangent-plane stability, the TP flash, bubble and dew points,
+phase envelopes (see :mod:`eosfill.equilibrium.solvers`).
+"""
+from eosfill.equilibrium.solvers import (  # noqa: F401
+    bubble_point,
+    dew_point,
+    flash_TP,
+    lnphi_root,
+    phase_envelope,
+    rachford_rice,
+    saturation_pressure,
+    saturation_temperature,
+    stability_test,
+    wilson_lnK,
+)
