@@ -69,3 +69,29 @@ class RangeWarning(UserWarning):
 
 class LimitWarning(UserWarning):
     """A computed value passed a safety limit (temperature, pressure, fill density)."""
+
+
+# --------------------------------------------------------------------------
+# per-element solver status (scipy-style): every batch solver returns one of
+# these per element, State carries them, vessel and time-resolved results keep
+# the worst status of the states they used.  Ordered: a larger code is worse.
+# --------------------------------------------------------------------------
+CONVERGED = 0       #: converged and verified against its specification
+OUT_OF_RANGE = 1    #: a correlation or input was outside its range (result computed; RangeWarning issued)
+NO_SOLUTION = 2     #: the specification has no solution for this model (no NaN returned in its place silently)
+NOT_CONVERGED = 3   #: the solver stopped at its iteration limit or its result failed verification
+
+STATUS_TEXT = {
+    CONVERGED: "converged",
+    OUT_OF_RANGE: "out of range",
+    NO_SOLUTION: "no solution",
+    NOT_CONVERGED: "not converged",
+}
+
+
+def worst_status(*statuses) -> int:
+    """The worst (largest) status code among scalars or arrays of codes (None is skipped)."""
+    import numpy as np
+
+    codes = [np.max(np.asarray(s)) for s in statuses if s is not None and np.size(s) > 0]
+    return int(max(codes, default=CONVERGED))
