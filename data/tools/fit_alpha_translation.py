@@ -83,6 +83,19 @@ FLUIDS = [
     ("carbon dioxide", "CO2", True),
 ]
 
+# caveats written into the table's note column
+NOTES = {
+    "hydrogen": "quantum fluid: one alpha for 200-400 K and 16-32 K saturation is a compromise "
+                "(held-out saturated-liquid density off by several %)",
+    "helium": "Tr >= 38 over the fit range: alpha is far below 1e-20 there, so the attractive term "
+              "is negligible and L, M, N are not determined by the data (only c matters); "
+              "do not use below 200 K",
+    "air": "pseudo-pure air (Lemmon et al. 2000); no saturation curve fitted",
+    "carbon dioxide": "near-critical states (290-330 K, 7-14 MPa) dominate the density maximum",
+    "propane": "near-critical states (350-390 K, 4-8 MPa) dominate the density maximum",
+    "ethane": "near-critical states dominate the density maximum",
+}
+
 MODEL = cubic.PR
 T_RANGE = (200.0, 400.0)        # K
 P_RANGE = (1e5, 1e8)            # Pa
@@ -314,7 +327,7 @@ CSV_COLUMNS = ["name", "model", "twu_L", "twu_M", "twu_N", "c_m3_per_mol", "sour
                "P_range_MPa", "sat_range_K", "n_points_fit", "n_points_held_out",
                "held_out_rho_rms_pct", "held_out_rho_max_pct", "held_out_hres_rms_J_per_mol",
                "held_out_hres_max_J_per_mol", "held_out_psat_rms_pct", "held_out_psat_max_pct",
-               "held_out_rhoL_rms_pct", "held_out_rhoL_max_pct", "consistent_alpha"]
+               "held_out_rhoL_rms_pct", "held_out_rhoL_max_pct", "consistent_alpha", "note"]
 
 
 def _row(r):
@@ -333,6 +346,7 @@ def _row(r):
         held_out_rhoL_rms_pct="" if np.isnan(f["rhoL_rms"]) else f"{f['rhoL_rms']:.3f}",
         held_out_rhoL_max_pct="" if np.isnan(f["rhoL_max"]) else f"{f['rhoL_max']:.3f}",
         consistent_alpha="yes" if r["consistent"] else "no",
+        note="; ".join(filter(None, ["an extrapolation outside the fit ranges", NOTES.get(r["name"])])),
     )
 
 
