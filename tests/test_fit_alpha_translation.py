@@ -58,3 +58,43 @@ def test_convexity_condition_matches_the_kernel():
     # (M = 1, N = 2: T² α''/α = u² - u, negative for 0 < u < 1)
     _, _, d2a = al.alpha_values(al.TWU91, Tr, [1.0], [[0.1, 1.0, 2.0]])
     assert fit.convexity_violation(0.1, 1.0, 2.0) > 0.0 and np.any(d2a < 0.0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("name", ["nitrogen", "propane", "carbon dioxide"])
+def test_fit_model_matches_thermo_tc_pr(name):
+    """The fit's pure-fluid model (eosfill's cubic equations + Twu α + constant c)
+    against thermo 0.6.1's PRTranslatedConsistent with the same L, M, N, c:
+    density and residual enthalpy to 1e-9, on liquid, vapour and supercritical
+    roots, and the vapour pressure and saturated-liquid density to 1e-8."""
+    import numpy as np
+    from thermo.eos import PRTranslatedConsistent
+
+    from eosfill.model import alpha as al
+    from eosfill.model import translation as tr
+    from eosfill.model.components import get_component
+
+    fit = _load()
+    comp = get_component(name)
+    Tc, Pc, omega = comp.Tc, comp.Pc, comp.omega
+    L, M, N = al.TC_PR_ALPHA.parameters([Tc], [Pc], [omega])[0]
+    c = tr.tc_pr_shift([Tc], [Pc], [omega])[0]
+    model = fit.PureTwuPR(Tc, Pc)
+    for Tr, P in [(0.7, 5e6), (0.9, 1e5), (1.5, 30e6)]:
+        T = Tr * Tc
+        eos = PRTranslatedConsistent(Tc=Tc, Pc=Pc, omega=omega, alpha_coeffs=(L, M, N), c=c, T=T, P=P)
+        phase = "l" if eos.phase == "l" else "g"
+        code = 0 if Tr > 1 else (1 if phase == "l" else 2)
+        rho, hR = model.single_phase(np.array([T]), np.array([P]), np.array([code]), L, M, N, c)
+        V = eos.V_l if phase == "l" else eos.V_g
+        H = eos.H_dep_l if phase == "l" else eos.H_dep_g
+        assert abs(rho[0] * V - 1.0) < 1e-9, (Tr, P)
+        assert abs(hR[0] / H - 1.0) < 1e-9, (Tr, P)
+    T = np.array([0.6 * Tc, 0.85 * Tc])
+    eos = PRTranslatedConsistent(Tc=Tc, Pc=Pc, omega=omega, alpha_coeffs=(L, M, N), c=c, T=T[0], P=1e5)
+    Psat_ref = np.array([eos.Psat(t) for t in T])
+    Psat, rhoL = model.saturation(T, 1.05 * Psat_ref, L, M, N, c)
+    assert np.all(np.abs(Psat / Psat_ref - 1.0) < 1e-8)
+    VL = [PRTranslatedConsistent(Tc=Tc, Pc=Pc, omega=omega, alpha_coeffs=(L, M, N), c=c, T=t, P=p).V_l
+          for t, p in zip(T, Psat_ref)]
+    assert np.all(np.abs(rhoL * np.array(VL) - 1.0) < 1e-7)
