@@ -264,3 +264,16 @@ def test_per_fluid_parts_refuse_missing_or_malformed_coefficients():
 def test_unknown_kind_is_an_error():
     with pytest.raises(ValueError, match="alpha kind"):
         al.alpha_T(7, 300.0, 300.0, 0.5, 0.0, 0.0)
+
+
+def test_alpha_values_is_the_same_kernel_over_temperatures():
+    T = np.array([150.0, 250.0, 400.0])
+    Tc = np.array([190.0, 370.0])
+    p = np.array([[0.52, 0.0, 0.0], [0.61, 0.0, 0.0]])
+    a, da, d2a = al.alpha_values(al.SOAVE, T, Tc, p)
+    assert a.shape == (3, 2)
+    for k in range(3):
+        for i in range(2):
+            assert (a[k, i], da[k, i], d2a[k, i]) == al.soave_alpha(T[k], Tc[i], p[i, 0])
+    with pytest.raises(InputError, match="one row per component"):
+        al.alpha_values(al.SOAVE, T, Tc, p[:1])

@@ -276,8 +276,20 @@ def alpha_components(kind, T, Tc, params):
     return a, da, d2a
 
 
+@njit(cache=True)
+def _alpha_table(kind, T, Tc, params):
+    m, nc = T.shape[0], Tc.shape[0]
+    a = np.empty((m, nc))
+    da = np.empty((m, nc))
+    d2a = np.empty((m, nc))
+    for k in range(m):
+        for i in range(nc):
+            a[k, i], da[k, i], d2a[k, i] = alpha_T(kind, T[k], Tc[i], params[i, 0], params[i, 1], params[i, 2])
+    return a, da, d2a
+
+
 def alpha_values(kind, T, Tc, params):
-    """Vectorised convenience over temperatures (not a hot path).
+    """α_i, dα_i/dT, d²α_i/dT² at many temperatures: a compiled loop over :func:`alpha_T`.
 
     Parameters
     ----------
@@ -293,14 +305,14 @@ def alpha_values(kind, T, Tc, params):
     Returns
     -------
     alpha, dalpha_dT, d2alpha_dT2 : ndarray, shape (m, nc)
+        [-], [1/K], [1/K²].
     """
-    T = np.atleast_1d(np.asarray(T, dtype=float))
+    T = np.ascontiguousarray(np.atleast_1d(T), dtype=float).ravel()
     Tc = np.ascontiguousarray(np.atleast_1d(Tc), dtype=float)
     params = np.ascontiguousarray(params, dtype=float).reshape(-1, 3)
-    out = np.empty((3, T.size, Tc.size))
-    for k, t in enumerate(T):
-        out[0, k], out[1, k], out[2, k] = alpha_components(int(kind), float(t), Tc, params)
-    return out[0], out[1], out[2]
+    if params.shape[0] != Tc.shape[0]:
+        raise InputError("params", params.shape, f"({Tc.shape[0]}, 3): one row per component")
+    return _alpha_table(int(kind), T, Tc, params)
 
 
 # --------------------------------------------------------------------------
