@@ -40,6 +40,7 @@ sys.path.insert(0, str(HERE))
 import cases as cases_mod  # noqa: E402
 import peers  # noqa: E402
 import timing  # noqa: E402
+import workers  # noqa: E402
 from peers import Unsupported  # noqa: E402
 
 # Agreement tolerance: relative for Z, T, P; absolute for hR/RT, ln φ, β and
@@ -47,6 +48,18 @@ from peers import Unsupported  # noqa: E402
 # solver tolerances sit at 1e-8..1e-6; 1e-5 separates "same work" from not.
 TOL = 1e-5
 RELATIVE = {"Z", "T", "P"}
+
+# What a peer's figure stands for, where that is not plain (printed as footnotes)
+NOTES = {
+    "teqp": {"props_TP": "teqp gives P(T, ρ) and its derivatives; the density at (T, P) is a Newton "
+                         "iteration on teqp's derivatives written in this benchmark (benchmarks/peers/teqp_adapter.py)",
+             "UV": "teqp has no flash: T at (u, v) is a Newton iteration on teqp's residual derivatives plus "
+                   "eosfill's ideal-gas Cp° polynomial, written in this benchmark (single phase only)"},
+    "NeqSim": {"PH": "NeqSim's ideal-gas part is its own: it first computes its own h at the same (T, P), then "
+                     "its PH flash recovers T (a round trip; not timed)",
+               "UV": "NeqSim's ideal-gas part is its own: it first computes its own u, v at the same state, then "
+                     "its VU flash recovers T, P (a round trip; not timed)"},
+}
 
 
 # ------------------------------------------------------------------ agreement
@@ -119,7 +132,7 @@ def short(exc):
 
 
 # ------------------------------------------------------------------ the run
-def run_case(w, eos, adapters, opts, log):
+def run_case(index, w, eos, procs, opts, log):
     res = {"id": w.id, "title": w.title, "kind": w.kind, "target": w.target, "target_s": w.target_s,
            "n": int(np.size(next(iter(w.inputs.values())))), "n_peer": w.n_peer if w.kind == "batch" else 1,
            "libraries": {}}
@@ -134,7 +147,7 @@ def run_case(w, eos, adapters, opts, log):
             beta = np.atleast_1d(ref.get("beta"))
             if not np.all((beta > 0.0) & (beta < 1.0)):
                 e["note"] = f"expected two phases, eosfill gives vapour fraction {beta[:3]}"
-        e["time_s"] = timing.best_of(fn, opts.repeat, opts.min_time) / per
+        e["time_s"] = timing.best_of(fn, opts.repeat, opts.min_time, max_total=opts.max_total) / per
         res["libraries"]["eosfill"] = e
     except Exception as exc:  # noqa: BLE001 - eosfill failing a case is reported, the run goes on
         e["error"] = short(exc)
@@ -152,26 +165,34 @@ def run_case(w, eos, adapters, opts, log):
             res["eosfill_one_at_a_time_diff"] = d1
         except Exception as exc:  # noqa: BLE001
             res["eosfill_one_at_a_time_error"] = short(exc)
-    for ad in adapters:
+    for pp in procs:
         r = {}
-        res["libraries"][ad.name] = r
-        if opts.only_eosfill:
-            continue
+        res["libraries"][pp.name] = r
         try:
-            fn = getattr(ad, "case_" + w.what)(w)
-            vals = fn()
-        except Exception as exc:  # noqa: BLE001 - a peer that cannot do a case is shown as "—"
-            r["error"] = short(exc)
+            reply = pp.ask("values", index)
+        except TimeoutError as exc:
+            r["error"] = f"timed out: {exc}"
             continue
+        if reply[0] != "ok":
+            r["error"] = reply[1]
+            continue
+        vals, r["first_call_s"] = reply[1], reply[2]
         r["diff"], r["diff_key"] = agreement(vals, ref_peer, w.keys)
         r["agrees"] = bool(r["diff"] <= TOL)
-        if getattr(ad, "notes", {}).get(w.what):
-            r["note"] = ad.notes[w.what]
+        if pp.name in NOTES and w.what in NOTES[pp.name]:
+            r["note"] = NOTES[pp.name][w.what]
         try:
-            r["time_s"] = timing.best_of(fn, opts.repeat, opts.min_time) / (w.n_peer if w.kind == "batch" else 1)
-            r["ratio"] = r["time_s"] / e["time_s"]
-        except Exception as exc:  # noqa: BLE001
-            r["error"] = "timing: " + short(exc)
+            reply = pp.ask("time", index)
+        except TimeoutError as exc:
+            r["error"] = f"timing timed out: {exc}"
+            continue
+        if reply[0] != "ok":
+            r["error"] = "timing: " + reply[1]
+            continue
+        r["time_s"] = reply[1] / (w.n_peer if w.kind == "batch" else 1)
+        if reply[2]:
+            r["note_time"] = reply[2]
+        r["ratio"] = r["time_s"] / e["time_s"]
     return res
 
 
@@ -221,8 +242,9 @@ def print_table(results, names, meta, out=print):
             if not r.get("agrees", True):
                 cell += " " + notes.add(f"{n}: differs from eosfill by {r['diff']:.2e} in {r['diff_key']} "
                                         f"(tolerance {TOL:g}): different work, ratio not comparable")
-            if "note" in r:
-                cell += " " + notes.add(f"{n}: {r['note']}")
+            for key in ("note", "note_time"):
+                if key in r:
+                    cell += " " + notes.add(f"{n}: {r[key]}")
             row.append(cell)
         rows.append(row)
         if "eosfill_one_at_a_time_s" in res:
@@ -238,7 +260,7 @@ def print_table(results, names, meta, out=print):
         out("  ".join(str(c).ljust(wd) for c, wd in zip(r, widths)))
     out("")
     out(f"Cells: peer time, ratio peer/eosfill (> 1: eosfill faster), Δ = largest difference from eosfill "
-        f"(relative for Z, T, P; absolute for hR/RT, ln φ, vapour fraction, mole fractions); "
+        f"(relative for Z, T, P; absolute for hR/RT, ln φ, vapour fraction (1 for any single phase), mole fractions); "
         f"≠ marks Δ > {TOL:g} (different work). '·' = not run for this case.")
     out("Batches: per-state time; eosfill on the whole batch in one call, peers one state at a time on the "
         "first states of the same batch. Targets (issue 9) are information only.")
@@ -271,11 +293,16 @@ def main(argv=None):
                     help=f"comma-separated peers (default: all of {','.join(peers.PEER_NAMES)})")
     ap.add_argument("--cases", default="", help="comma-separated case ids (default: all)")
     ap.add_argument("--repeat", type=int, default=None, help="timing rounds (default 3 quick, 5 full)")
+    ap.add_argument("--timeout", type=float, default=None,
+                    help="s a peer may take for one step before its process is ended (default 30 quick, 90 full)")
     ap.add_argument("--no-fill", action="store_true", help="skip the time-resolved fill")
     args = ap.parse_args(argv)
     args.repeat = args.repeat or (3 if args.quick else 5)
     args.min_time = 0.03 if args.quick else 0.2
     args.only_eosfill = False
+    args.slow = 1.0 if args.quick else 5.0      # s: a first call slower than this is not repeated
+    args.max_total = 3.0 if args.quick else 15.0  # s: time budget of one timing
+    args.timeout = args.timeout or (30.0 if args.quick else 90.0)
     log = lambda s: print(s, file=sys.stderr, flush=True)  # noqa: E731
 
     warnings.simplefilter("ignore")
@@ -288,24 +315,33 @@ def main(argv=None):
 
     wanted = [p.strip() for p in args.peers.split(",") if p.strip()]
     (eos,), _ = peers.load(["eosfill"])
-    adapters, missing = peers.load(wanted)
-    names = [a.name for a in adapters]
-    versions = {"eosfill": eos.version, **{a.name: a.version for a in adapters}}
-    for n, why in missing.items():
-        log(f"peer {n} skipped: {why}")
     all_cases = cases_mod.build(quick=args.quick)
     sel = [c.strip() for c in args.cases.split(",") if c.strip()]
     todo = [c for c in all_cases if not sel or c.id in sel]
+    wopts = dict(slow=args.slow, repeat=args.repeat, min_time=args.min_time, max_total=args.max_total)
+    procs = [workers.PeerProcess(n, todo, wopts, timeout=args.timeout) for n in wanted]
     results = []
-    for w in todo:
-        log(f"case {w.id} ...")
-        results.append(run_case(w, eos, adapters, args, log))
-        for n, why in missing.items():
-            results[-1]["libraries"][n] = {"error": why}
+    try:
+        for i, w in enumerate(todo):
+            log(f"case {w.id} ...")
+            results.append(run_case(i, w, eos, procs, args, log))
+        versions = {"eosfill": eos.version}
+        for pp in procs:
+            versions[pp.name] = pp.version or f"not loaded ({pp.load_error})"
+            if pp.version:
+                try:
+                    reply = pp.ask("notes")
+                    for line in (reply[1] if reply[0] == "ok" else []):
+                        meta[f"{pp.name} note"] = line
+                except TimeoutError:
+                    pass
+    finally:
+        for pp in procs:
+            pp.stop()
     if not args.no_fill and (not sel or "fill_1000" in sel):
         log("case fill_1000 ...")
         results.append(transient_case(args))
-    names_all = names + list(missing)
+    names_all = wanted
     meta["versions"] = ", ".join(f"{k} {v}" for k, v in versions.items())
     meta["machine"] = f"{platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}"
     meta["mode"] = f"{'quick' if args.quick else 'full'}, best of {args.repeat}; run took " \

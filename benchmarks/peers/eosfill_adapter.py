@@ -10,6 +10,12 @@ import numpy as np
 R = 8.314462618
 
 
+def _beta(st):
+    """Vapour fraction of two-phase rows, 1 for single-phase rows (whose vapour
+    fraction is only a label, 0 or 1 by each library's naming)."""
+    return np.where(np.asarray(st.phase) == "two-phase", st.vapor_fraction, 1.0)
+
+
 class Adapter:
     name = "eosfill"
 
@@ -42,7 +48,7 @@ class Adapter:
         def run():
             st = f.state(T=T, P=P)
             liq = st.liquid if st.liquid is not None else st
-            return {"beta": st.vapor_fraction, "x_liq": liq.x, "phase": st.phase}
+            return {"beta": _beta(st), "x_liq": liq.x, "phase": st.phase}
         return run
 
     def case_PH(self, w):
@@ -50,7 +56,7 @@ class Adapter:
 
         def run():
             st = f.state(P=P, h=h)
-            return {"T": st.T, "beta": st.vapor_fraction, "phase": st.phase}
+            return {"T": st.T, "beta": _beta(st), "phase": st.phase}
         return run
 
     def case_UV(self, w):
@@ -58,7 +64,7 @@ class Adapter:
 
         def run():
             st = f.state(u=u, v=v)
-            return {"T": st.T, "P": st.P, "beta": st.vapor_fraction, "phase": st.phase}
+            return {"T": st.T, "P": st.P, "beta": _beta(st), "phase": st.phase}
         return run
 
     def one_at_a_time(self, w):

@@ -83,7 +83,7 @@ class Adapter(PeerAdapter):
         def g(T, P):
             r = fl.flash(T=T, P=P, zs=zs)
             if r.phase_count < 2:
-                return {"beta": r.VF, "x_liq": list(zs), "phase": "one phase"}
+                return {"beta": 1.0, "x_liq": list(zs), "phase": "one phase"}
             return {"beta": r.VF, "x_liq": list(r.liquid0.zs), "phase": "two-phase"}
         return g
 
@@ -93,7 +93,7 @@ class Adapter(PeerAdapter):
 
         def g(P, h):
             r = fl.flash(P=P, H=h, zs=zs)
-            return {"T": r.T, "beta": r.VF}
+            return {"T": r.T, "beta": r.VF if r.phase_count == 2 else 1.0}
         return g
 
     def one_UV(self, w):
@@ -105,5 +105,5 @@ class Adapter(PeerAdapter):
             r = fl.flash(U=u, V=v) if pure else fl.flash(U=u, V=v, zs=zs)
             if not (math.isfinite(r.T) and math.isfinite(r.P)):
                 raise Unsupported("thermo returned a non-finite state")
-            return {"T": r.T, "P": r.P, "beta": r.VF}
+            return {"T": r.T, "P": r.P, "beta": r.VF if r.phase_count == 2 else 1.0}
         return g
