@@ -300,7 +300,7 @@ def main(argv=None):
     ap.add_argument("--cases", default="", help="comma-separated case ids (default: all)")
     ap.add_argument("--repeat", type=int, default=None, help="timing rounds (default 3 quick, 5 full)")
     ap.add_argument("--timeout", type=float, default=None,
-                    help="s a peer may take for one step before its process is ended (default 30 quick, 90 full)")
+                    help="s a peer may take for one step before its process is ended (default 15 quick, 90 full)")
     ap.add_argument("--no-fill", action="store_true", help="skip the time-resolved fill")
     args = ap.parse_args(argv)
     args.repeat = args.repeat or (3 if args.quick else 5)
@@ -308,7 +308,7 @@ def main(argv=None):
     args.only_eosfill = False
     args.slow = 1.0 if args.quick else 5.0      # s: a first call slower than this is not repeated
     args.max_total = 3.0 if args.quick else 15.0  # s: time budget of one timing
-    args.timeout = args.timeout or (30.0 if args.quick else 90.0)
+    args.timeout = args.timeout or (15.0 if args.quick else 90.0)
     log = lambda s: print(s, file=sys.stderr, flush=True)  # noqa: E731
 
     warnings.simplefilter("ignore")
@@ -318,6 +318,11 @@ def main(argv=None):
         meta["import eosfill (fresh interpreter, best of 3)"] = f"{timing.import_time():.3f} s (target < 0.3 s)"
     except Exception as exc:  # noqa: BLE001
         meta["import eosfill"] = "failed: " + short(exc)
+    try:
+        meta["fresh interpreter: import, Fluid, first state(T,P) (best of 3; includes loading cached or "
+             "compiling kernels)"] = f"{timing.first_state_time():.2f} s"
+    except Exception as exc:  # noqa: BLE001
+        meta["fresh interpreter: first state"] = "failed: " + short(exc)
 
     wanted = [p.strip() for p in args.peers.split(",") if p.strip()]
     (eos,), _ = peers.load(["eosfill"])

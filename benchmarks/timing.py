@@ -43,3 +43,24 @@ def import_time(module="eosfill", repeat=3):
             raise RuntimeError(out.stderr.strip().splitlines()[-1] if out.stderr.strip() else "import failed")
         best = min(best, float(out.stdout.strip().splitlines()[-1]))
     return best
+
+
+FIRST_STATE = """
+import time
+t = time.perf_counter()
+import eosfill
+gas = eosfill.Fluid({"methane": 0.85, "ethane": 0.07, "propane": 0.03, "nitrogen": 0.03, "carbon dioxide": 0.02})
+gas.state(T=300.0, P=10e6)
+print(time.perf_counter() - t)
+"""
+
+
+def first_state_time(repeat=3):
+    """A fresh interpreter's import, Fluid and first state(T, P), in s (best of ``repeat``)."""
+    best = float("inf")
+    for _ in range(repeat):
+        out = subprocess.run([sys.executable, "-c", FIRST_STATE], capture_output=True, text=True, timeout=300)
+        if out.returncode != 0:
+            raise RuntimeError(out.stderr.strip().splitlines()[-1] if out.stderr.strip() else "failed")
+        best = min(best, float(out.stdout.strip().splitlines()[-1]))
+    return best
