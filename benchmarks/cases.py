@@ -36,6 +36,7 @@ class Work:
     target: str = ""
     target_s: float | None = None  # the target as seconds (per state for batches), if numeric
     n_peer: int = 1             # batches: peers do the first n_peer states one at a time
+    check: object = None        # optional independent check of eosfill's answer: w -> (values, label)
     fluid: object = None        # the eosfill Fluid (constants for every library)
     expect_two_phase: bool = False
 
@@ -61,6 +62,21 @@ def two_phase_TP(n, seed=7):
     """n (T, P) inside the rich gas's two-phase region (210-230 K, 3-5 MPa)."""
     rng = np.random.default_rng(seed)
     return rng.uniform(210.0, 230.0, n), rng.uniform(3.0e6, 5.0e6, n)
+
+
+def co2_dome_check(w):
+    """Independent check where no peer solves the case: inside the dome the
+    (u, v) state is at the model's saturation pressure, with the vapour
+    fraction of the lever rule on the saturated volumes.  Reference: thermo's
+    pure-fluid PR (``PR.Psat`` polished, ``V_l``, ``V_g``) with the same Tc, Pc, ω;
+    T is the origin's."""
+    from thermo import PR
+
+    f, T, v = w.fluid, w.origin["T"], w.origin["v"]
+    kw = dict(Tc=float(f.Tc[0]), Pc=float(f.Pc[0]), omega=float(f.omega[0]))
+    Ps = PR(T=T, P=1e6, **kw).Psat(T, polish=True)
+    sat = PR(T=T, P=Ps, **kw)
+    return {"T": T, "P": Ps, "beta": (v - sat.V_l) / (sat.V_g - sat.V_l)}, "thermo PR Psat + lever rule"
 
 
 def build(quick=False):
@@ -103,7 +119,7 @@ def build(quick=False):
     s = co2.state(T=280.0, v=v_dome)
     cases.append(Work("co2_uv_dome_1", "pure CO2 (u,v) in the dome, one state", "UV", {"carbon dioxide": 1.0},
                       inputs=dict(u=s.u, v=s.v), origin=dict(T=280.0, v=v_dome), keys=("T", "P", "beta"),
-                      target="≤ fastest peer", fluid=co2, expect_two_phase=True))
+                      target="≤ fastest peer", fluid=co2, expect_two_phase=True, check=co2_dome_check))
     cases.append(Work("flash2_1", "TP flash, two phases (rich gas 220 K, 4 MPa)", "flash_TP", RICH,
                       inputs=dict(T=220.0, P=4e6), keys=("beta", "x_liq"), target="≤ 100 µs", target_s=100e-6,
                       fluid=rich, expect_two_phase=True))

@@ -161,6 +161,16 @@ def run_case(index, w, eos, procs, opts, log):
         log(f"  {w.id}: eosfill failed: {e['error']}")
         return res
     ref_peer = slice_ref(ref, w.n_peer) if w.kind == "batch" else ref
+    if w.check is not None:  # an independent check of eosfill's answer (not timed)
+        try:
+            chk, label = w.check(w)
+            d, key = agreement(ref, chk, w.keys)
+            e["check"] = {"against": label, "diff": d, "diff_key": key, "agrees": bool(d <= TOL)}
+            text = (f"eosfill checked against {label}: Δ{d:.1e} ({key})"
+                    + ("" if d <= TOL else f" — DIFFERS beyond {TOL:g}"))
+            e["note"] = e["note"] + "; " + text if "note" in e else text
+        except Exception as exc:  # noqa: BLE001
+            e["check"] = {"error": short(exc)}
     res["eosfill_values"] = {k: np.asarray(v).tolist() for k, v in ref_peer.items() if k in w.keys}
     if w.kind == "batch" and w.what == "flash_TP":
         try:  # the same states, eosfill one call per state
