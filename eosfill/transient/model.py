@@ -544,11 +544,15 @@ class _Model:
         du = (dU − u dn)/n, dv = −v dn/n, dT = (du − (T P_T − P) dv)/cv,
         dP = P_T dT + P_v dv; dn = sign·ṅ, dU = sign·ṅ h_flow + Q.  The change
         of composition by the inflow is neglected in dP (exact for one
-        composition)."""
+        composition).
+
+        v is the content's molar volume V/n (what the amount changes); with a
+        volume shift c the model's own volume is v_eos = v + c, so
+        dv_eos = dv and the derivatives P_T, P_v at v_eos apply unchanged."""
         pr = g["pr"]
         if pr is None:
             raise EosfillError("a pressure ramp needs single-phase content")
-        T, P, n, u, v = g["T"], g["P"], g["n"], g["u"], g["v_eos"]
+        T, P, n, u, v = g["T"], g["P"], g["n"], g["u"], g["v"]
         PT, Pv, cv = pr["dPdT"], pr["dPdv"], pr["cv"]
 
         def dP(ndot, Qh):
