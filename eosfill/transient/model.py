@@ -49,7 +49,7 @@ import numpy as np
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
 from eosfill.errors import ConvergenceError, EosfillError, InputError, LimitWarning
-from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, surface_exchange
+from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, isobaric_expansion, surface_exchange
 
 CAUTION = ("Caution: estimates from an equation of state and simplified heat-transfer models; local "
            "codes, the vessel's approval documents and licensed practice govern.")
@@ -507,8 +507,9 @@ class _Model:
         if self.wall is not None:
             w = self.wall
             Tw = y[self.iw:self.iw + self.nw]
+            cp_mass, beta = _cp_and_expansion(self.fluid, g, M_x)
             hin = self.inner_h(flowing, mdot=mdot_in + mdot_out, T_gas=T, T_wall=float(Tw[0]),
-                               rho=M_x / g["v"], cp_mass=1000.0)
+                               rho=M_x / g["v"], cp_mass=cp_mass, beta=beta)
             Q_wall = surface_exchange(hin, w.inner_area, float(Tw[0]), T, w.inner_resistance())
             Q_amb = surface_exchange(self.outer_h, w.outer_area, self.T_amb, float(Tw[-1]), w.outer_resistance())
             net = w.conduction(Tw)
@@ -928,6 +929,24 @@ class _Run:
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res
+
+
+def _cp_and_expansion(fluid, g, M):
+    """The content's isobaric heat capacity [J/(kg K)] and thermal expansion β [1/K]
+    from the equation of state, for the inner heat-transfer coefficient:
+    c_p = c_v − T (∂P/∂T)_v² / (∂P/∂v)_T and β (H4 of :mod:`eosfill.transient.heat`).
+    Two-phase content has no finite c_p (a pure fluid boils at constant T, P):
+    the ideal-gas c_p° of the mixture and β = 1/T are passed then (stated in
+    docs/transient.md)."""
+    T = g["T"]
+    pr = g["pr"]
+    if pr is not None:
+        cp = pr["cv"] - T * pr["dPdT"] ** 2 / pr["dPdv"]
+        return float(cp) / M, float(isobaric_expansion(g["v"], pr["dPdT"], pr["dPdv"]))
+    from eosfill.model import idealgas
+
+    cp0 = idealgas.mixture_cp0(T, g["x"], fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
+    return float(cp0) / M, 1.0 / T
 
 
 def _phase_label(fluid, row):
