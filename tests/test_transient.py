@@ -346,3 +346,21 @@ def test_inner_coefficient_gets_the_gas_cp_and_expansion():
     beta_ref = CP.PropsSI("isobaric_expansion_coefficient", "T", T, "Dmass", rho, "Hydrogen")
     assert s["beta"] == pytest.approx(beta_ref, rel=0.08)
     assert abs(1.0 / T / beta_ref - 1.0) > 0.16
+
+
+@pytest.mark.parametrize("comp, T0, P0", [("carbon dioxide", 288.15, 10e6),
+                                          ({"nitrogen": 0.5, "methane": 0.5}, 190.0, 50e6)])
+def test_vent_of_dense_contents_runs_and_chokes_on_equilibrium_states(comp, T0, P0):
+    """Regression (issue 10 item 6): these vents crashed on math.log(P*) with a negative
+    throat pressure.  Consistency: the first outflow is C_d A times the homogeneous-
+    equilibrium maximum of G over fluid.state(P, s0) states (a fine brute-force grid, 1e-3)."""
+    f = eosfill.Fluid(comp)
+    r = transient.simulate(f, 0.01, mode="vent", initial_temperature=T0, initial_pressure=P0,
+                           restriction=flow.Orifice(0.001, 0.8), duration=0.5, n_output=3)
+    assert r.complete and r.mass_closure < 1e-9 and r.energy_closure < 1e-9
+    st = f.state(T=T0, P=P0)
+    P = np.geomspace(0.02 * P0, 0.98 * P0, 1500)
+    sp = f.state(P=P, s=np.full(P.shape, float(st.s)))
+    M = float(f.mole_fractions @ f.molar_masses)
+    G_hem = np.max(np.sqrt(2 * M * np.maximum(float(st.h) - np.asarray(sp.h), 0.0)) / np.asarray(sp.v))
+    assert r.mdot_out[0] == pytest.approx(0.8 * math.pi * 0.001**2 / 4 * G_hem, rel=1e-3)

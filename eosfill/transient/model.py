@@ -295,7 +295,7 @@ class _Content:
         T, P = float(st.T), float(st.P)
         self.T_last = T
         return dict(T=T, P=P, h=u + P * v, u=u, v=v, v_eos=v_eos, x=x, n=n, beta=float(st.vapor_fraction),
-                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f)
+                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f, s=float(st.s))
 
     def _maybe_two_phase(self, T, P, v_eos, x):
         """Phase check of a single-phase (T, v) solution (pure: saturation curve;
@@ -375,6 +375,7 @@ class _Model:
                 c.T_last = s.temperature
                 self.bank_contents.append(c)
         self._nozzle_cache = {}
+        self._isentrope_tables = {}
         self.n_rhs = 0
         self.range_warning = False
 
@@ -435,25 +436,34 @@ class _Model:
             hit = self._nozzle_cache.get("noz")
             if hit is not None and hit[0] == key:
                 return hit[1]
+        tables = self._isentropes(up["x"])
         if up.get("pr") is None:
             st = up["st"]
             f = st.get("fluid_x") or self.fluid
-            s0 = float(f.state(T=st["T"], v=st["v"]).s)
-            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0,
-                                                          hint=getattr(self, "_throat_hint", None))
+            s0 = st["s"] if "s" in st else float(f.state(T=st["T"], v=st["v"]).s)
+            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0, isentropes=tables)
         else:
+            known = self._throat_known_single(up)
             noz = _flow.IsentropicNozzle(self.fluid, up["T"], up["v_eos"], kernel=up["kernel"],
-                                         check_phase=not self._throat_known_single(up),
-                                         hint=getattr(self, "_throat_hint", None))
-            if not self._throat_known_single(up):
+                                         check_phase=not known, isentropes=tables)
+            if not known:
                 self._last_throat = (noz.T_star, math.log(noz.P_star), np.array(up["x"]), noz.two_phase,
                                      up["T"], math.log(up["P"]))
-        # the next step's two-phase throat search starts near this one
-        self._throat_hint = math.log(noz.P_star / noz.P0) if noz.two_phase else None
         if key is not None:
             noz.tabulate()
             self._nozzle_cache["noz"] = (key, noz)
         return noz
+
+    def _isentropes(self, x):
+        """The equilibrium isentrope tables of composition x (one set per run and composition,
+        shared by every nozzle of the run: built once, interpolated at each right-hand side)."""
+        x = np.asarray(x, dtype=float)
+        key = x.tobytes()
+        tab = self._isentrope_tables.get(key)
+        if tab is None:
+            f = self.fluid if np.array_equal(x, self.fluid.mole_fractions) else self.fluid.with_composition(x)
+            tab = self._isentrope_tables[key] = _flow.EquilibriumIsentropes(f)
+        return tab
 
     def _throat_known_single(self, up):
         """Skip the throat's phase test while the upstream state stays within 0.5 K and
