@@ -364,3 +364,18 @@ def test_vent_of_dense_contents_runs_and_chokes_on_equilibrium_states(comp, T0, 
     M = float(f.mole_fractions @ f.molar_masses)
     G_hem = np.max(np.sqrt(2 * M * np.maximum(float(st.h) - np.asarray(sp.h), 0.0)) / np.asarray(sp.v))
     assert r.mdot_out[0] == pytest.approx(0.8 * math.pi * 0.001**2 / 4 * G_hem, rel=1e-3)
+
+
+def test_phase_label_is_the_state_label():
+    """Consistency (issue 10 item 10): one phase label for the package.  Each output row of
+    a time-resolved run carries the label Fluid.state gives at its (T, P), also where the
+    former 'v > 4b' rule of the time-resolved model contradicted it (a hot dilute nitrogen
+    vent, 700 K and 2 kPa, labelled 'liquid' by the State's phase-identification rule at the
+    time of writing, 'gas' by v > 4b; whichever the package's rule says, they agree)."""
+    n2 = eosfill.Fluid("nitrogen")
+    for T0, P0, back in ((700.0, 2e3, 1e3), (300.0, 20e6, 10e6)):
+        r = transient.simulate(n2, 0.01, mode="vent", initial_temperature=T0, initial_pressure=P0,
+                               restriction=flow.Orifice(0.002, 0.8), back_pressure=back, duration=1.0,
+                               n_output=4)
+        for T, P, ph in zip(r.T_gas, r.P, r.phase):
+            assert ph == n2.state(T=float(T), P=float(P)).phase

@@ -922,7 +922,7 @@ class _Run:
         P = np.array([r["P"] for r in rows])
         mass = ys[:, :m.nc] @ Mw
         beta = np.array([r["gas"]["beta"] for r in rows])
-        phase = np.array([r["gas"].get("phase", _phase_label(m.fluid, r)) for r in rows], dtype=object)
+        phase = np.array([_phase_label(m.fluid, r) for r in rows], dtype=object)
         res = TransientResult(
             kind=m.mode, t=times, P=P, T_gas=T,
             T_wall_inner=np.array([r["Tw_in"] for r in rows]), T_wall_outer=np.array([r["Tw_out"] for r in rows]),
@@ -960,14 +960,20 @@ def _cp_and_expansion(fluid, g, M):
 
 
 def _phase_label(fluid, row):
+    """The content's phase label, from the State's own labelling (one rule for the
+    whole package, :mod:`eosfill.model.mixture`): a two-phase row carries the
+    equilibrium solver's label; a single-phase row is labelled by the State of
+    the same root at its (T, P) (the cubic root whose volume is the content's)."""
     g = row["gas"]
-    pr = g["pr"]
-    if pr is None:
-        return "gas"
-    Tpc, Ppc = float(g["x"] @ fluid.Tc), float(g["x"] @ fluid.Pc)
-    if row["T"] >= Tpc and row["P"] >= Ppc:
-        return "supercritical"
-    return "gas" if g["v_eos"] > 4.0 * g["kernel"].b else "liquid"
+    if "phase" in g:
+        return str(g["phase"])
+    x = np.asarray(g["x"])
+    f = fluid if np.array_equal(x, fluid.mole_fractions) else fluid.with_composition(x)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        st = f.single_phase(row["T"], row["P"])
+        if abs(float(st.v) / g["v"] - 1.0) > 1e-6:   # not the stable root: the other one
+            st = f.single_phase(row["T"], row["P"], which="liquid" if g["v"] < float(st.v) else "vapour")
+    return str(st.phase)
 
 
 def _closure(m, ys, rows, y0):
