@@ -379,3 +379,28 @@ def test_phase_label_is_the_state_label():
                                n_output=4)
         for T, P, ph in zip(r.T_gas, r.P, r.phase):
             assert ph == n2.state(T=float(T), P=float(P)).phase
+
+
+def test_run_whose_states_do_not_close_is_refused(monkeypatch):
+    """Consistency with teeth (issue 10): the (T3) closure is checked against the states
+    recomputed from each row's reported T, P and composition; with the content's reported
+    temperature 0.05 K off its solved value (an injected fault) the run is refused with
+    ConvergenceError and the figures instead of being returned."""
+    from eosfill.errors import ConvergenceError
+
+    h2 = eosfill.Fluid("hydrogen")
+    kw = dict(initial_temperature=288.15, initial_pressure=2e6, restriction=flow.MassFlow(0.003),
+              supply=transient.Reservoir(87.5e6, 288.15), duration=30.0, n_output=5)
+    ok = transient.simulate(h2, 0.05, **kw)
+    assert ok.energy_closure < 1e-9 and ok.closure_tolerance == pytest.approx(1e-5)
+    original = transient._Content.state
+
+    def off(self, N, U):
+        d = dict(original(self, N, U))
+        d["T"] = d["T"] + 0.05
+        return d
+
+    monkeypatch.setattr(transient._Content, "state", off)
+    with pytest.raises(ConvergenceError) as e:
+        transient.simulate(h2, 0.05, **kw)
+    assert "refused" in str(e.value) and e.value.last_iterate["mass_closure"] > 1e-5

@@ -273,9 +273,16 @@ class _Content:
 
         # gas alone at the target energy, T1; the answer lies between T1 and T_w0
         try:
-            T1 = _state(self.fluid, z, u=(E - 0.0) / n, v=v).T
+            T1 = _f(_state(self.fluid, z, u=(E - 0.0) / n, v=v).T)
         except InputError:
+            # the gas alone would pass the inverse solver's range: bracket by g itself
+            # (g rises with T: n c_v + C_w > 0), stepping from T_w0 outwards
             T1 = Tw0
+            step = 2.0 if g(Tw0) < 0 else 0.5
+            for _ in range(12):
+                T1 *= step
+                if (g(T1) >= 0) == (step > 1):
+                    break
         lo, hi = sorted((T1, Tw0))
         if hi - lo < 1e-12 * hi:
             T = 0.5 * (lo + hi)
@@ -290,6 +297,64 @@ class _Content:
 
 def _energy_scale(n, T):
     return max(n, 1e-300) * R * T
+
+
+# --------------------------------------------------------------------------
+# closure verified against an independent recomputation
+# --------------------------------------------------------------------------
+# A result closes to ~1e-10 when its states are right; 1e-6 leaves room for the
+# solvers' tolerances and refuses anything visibly wrong (our choice, common
+# practice, no source).
+CLOSURE_TOLERANCE = 1e-6
+
+
+def _z_of(fluid, composition):
+    """Mole-fraction vector (in the fluid's order) of a reported {name: x} composition."""
+    return np.array([composition.get(n, 0.0) for n in fluid.names], dtype=float)
+
+
+def _recomputed_content(fluid, es: "EndState", V):
+    """(n, U, P residual) of a reported content in a volume V, recomputed by a separate
+    evaluation from its reported T, P and composition: the (T, P) state for one phase
+    (n = V/v), the (T, v = V/n) equilibrium state when two-phase (where T and P do not
+    fix v; the pressure of that state is compared with the reported one instead)."""
+    z = _z_of(fluid, es.composition)
+    if es.phase == "two-phase":
+        st = _state(fluid, z, T=es.T, v=V / es.n)
+        return es.n, es.n * _f(st.u), (_f(st.P) - es.P) / es.P
+    st = _state(fluid, z, T=es.T, P=es.P)
+    n = V / _f(st.v)
+    return n, n * _f(st.u), 0.0
+
+
+def _refuse_unclosed(kind, energy_closure, mass_closure, state_residual, figures, tol=CLOSURE_TOLERANCE):
+    """Raise ConvergenceError (with the figures) when a result misses its closure tolerance."""
+    worst = max(abs(energy_closure), abs(mass_closure), abs(state_residual))
+    if not worst <= tol:   # also refuses NaN
+        raise ConvergenceError(
+            f"{kind} balance check",
+            f"the result does not close against an independent recomputation of its states: energy "
+            f"{energy_closure:.3e}, mass {mass_closure:.3e}, end-state pressure {state_residual:.3e} "
+            f"(relative; tolerance {tol:g}); the result is refused",
+            dict(figures, energy_closure=float(energy_closure), mass_closure=float(mass_closure),
+                 state_residual=float(state_residual)), worst)
+
+
+def _fill_closure(fluid, V, final, initial, supply_T, supply_P, z_in, N, Cw, Tw0, Q):
+    """(V1), (V2) of a fill from the reported end and initial states and the supply state,
+    each recomputed by its own evaluation (not the solved states): relative energy and
+    mass closures and the end state's pressure residual."""
+    n_f, U_f, p_res = _recomputed_content(fluid, final, V)
+    if initial is not None:
+        n_0, U_0, p0 = _recomputed_content(fluid, initial, V)
+        m_0 = n_0 * _molar_mass(fluid, _z_of(fluid, initial.composition))
+    else:
+        n_0 = U_0 = m_0 = p0 = 0.0
+    h_in = _f(_state(fluid, z_in, T=supply_T, P=supply_P).h)
+    M_f = _molar_mass(fluid, _z_of(fluid, final.composition))
+    e = (U_f - U_0 + Cw * (final.T - (Tw0 or 0.0)) - N * h_in - Q) / _energy_scale(final.n, final.T)
+    m = (n_f * M_f - m_0 - N * _molar_mass(fluid, z_in)) / (n_f * M_f)
+    return float(e), float(m), float(max(abs(p_res), abs(p0)))
 
 
 # --------------------------------------------------------------------------
@@ -396,6 +461,7 @@ class Result:
     energy_closure: float
     mass_closure: float
     settled: Settled | None = None
+    closure_tolerance: float = CLOSURE_TOLERANCE
     supply: dict | None = None
     stages: list = field(default_factory=list)
     comparison: dict | None = None
@@ -744,12 +810,13 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
     Tw = _f(st_f.T) if vessel.wall_heat_capacity > 0 else None
     final = EndState.of(fluid, st_f, n_end, V, wall=Tw)
     initial_es = EndState.of(fluid, st0, n0, V, wall=c.Tw0 if vessel.wall_heat_capacity > 0 else None) if st0 is not None else None
-    # closures (V1), (V2) from the solved state
+    # closures (V1), (V2): the reported end and initial states and the supply recomputed
+    # independently (not the solved states); a result that does not close is refused
     N = n_end - n0
-    lhs = n_end * _f(st_f.u) - U0 + c.Cw * (_f(st_f.T) - (c.Tw0 or 0.0))
-    rhs = N * h_in + c.Q
-    e_cl = (lhs - rhs) / _energy_scale(n_end, _f(st_f.T))
-    m_cl = (final.mass - (m0 + N * M_in)) / final.mass
+    e_cl, m_cl, p_res = _fill_closure(fluid, V, final, initial_es, supply.T, supply.P, z_in, N, c.Cw, c.Tw0,
+                                      c.Q)
+    _refuse_unclosed("fill", e_cl, m_cl, p_res, dict(T=final.T, P=final.P, n=final.n, supply_T=supply.T,
+                                                      supply_P=supply.P))
     settled = _settle(fluid, z_f, n_end, V, T_settle, nominal_pressure, nominal_temperature, state_of_charge)
     lim = dict(limits or {})
     lim["_volume"] = V
