@@ -404,3 +404,27 @@ def test_run_whose_states_do_not_close_is_refused(monkeypatch):
     with pytest.raises(ConvergenceError) as e:
         transient.simulate(h2, 0.05, **kw)
     assert "refused" in str(e.value) and e.value.last_iterate["mass_closure"] > 1e-5
+
+
+def test_time_resolved_result_keeps_the_worst_solver_status(monkeypatch):
+    """Consistency (issue 10): a time-resolved result keeps the worst status of the states
+    it used; a CO2 vent into its two-phase region, with the (u, v) solver reporting
+    NOT_CONVERGED (injected), says so in a field and its summary."""
+    from eosfill.errors import CONVERGED, NOT_CONVERGED
+    from eosfill.states.fluid import Fluid
+
+    co2 = eosfill.Fluid("carbon dioxide")
+    kw = dict(mode="vent", initial_temperature=290.0, initial_pressure=4.5e6, restriction=flow.MassFlow(0.05),
+              back_pressure=1e5, duration=60.0, target_pressure=3.5e6, n_output=5)
+    assert transient.simulate(co2, 0.01, **kw).status == CONVERGED
+    original = Fluid.state
+
+    def flagged(self, **spec):
+        st = original(self, **spec)
+        if "u" in spec:
+            st.status = NOT_CONVERGED
+        return st
+
+    monkeypatch.setattr(Fluid, "state", flagged)
+    r = transient.simulate(co2, 0.01, **kw)
+    assert r.status == NOT_CONVERGED and "not converged" in r.summary()

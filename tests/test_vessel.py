@@ -384,3 +384,31 @@ def test_cli_maps_a_refused_result_to_exit_3(monkeypatch, tmp_path, capsys):
     _shift_reported_T(monkeypatch, 0.05)
     assert cli.main(["run", str(demo), "--json", str(out)]) == 3
     assert "refused" in capsys.readouterr().err and not out.exists()
+
+
+@pytest.mark.parametrize("run", [
+    lambda: fill(Vessel(0.05), Stream(N2, 293.15, P=300e5), Stream(N2, 288.15, P=10e5),
+                 stop="target_pressure", target=200e5),
+    lambda: vent(Vessel(0.05), Stream(N2, 288.15, P=200e5), stop="target_pressure", target=20e5),
+    lambda: cascade_fill(Vessel(0.05), [Bank(0.2, Stream(N2, 293.15, P=300e5))],
+                         Stream(N2, 288.15, P=10e5), stop="target_pressure", target=200e5, compare=False),
+])
+def test_result_keeps_the_worst_solver_status(monkeypatch, run):
+    """Consistency (issue 10): a result keeps the worst status of the states it used
+    (eosfill.errors codes); with the solver reporting NOT_CONVERGED on one kind of state
+    (the (u, v) or (s, v) solves, injected), the result says so in a field and its summary."""
+    from eosfill.errors import CONVERGED, NOT_CONVERGED
+    from eosfill.states.fluid import Fluid
+
+    assert run().status == CONVERGED
+    original = Fluid.state
+
+    def flagged(self, **spec):
+        st = original(self, **spec)
+        if "v" in spec and "T" not in spec:
+            st.status = NOT_CONVERGED
+        return st
+
+    monkeypatch.setattr(Fluid, "state", flagged)
+    r = run()
+    assert r.status == NOT_CONVERGED and "not converged" in r.summary()

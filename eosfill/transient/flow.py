@@ -66,7 +66,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, InputError
+from eosfill.errors import CONVERGED, ConvergenceError, InputError, worst_status
 
 # IEC 60534-2-1 numerical constants (Table 1 of the standard; values as
 # reproduced in ISA-75.01.01-2007 Table 1, from memory; checked in the tests
@@ -520,6 +520,7 @@ class _IsentropeLevel:
         self.kinks = {}   # lattice interval k (between k and k+1) -> (ln P, h, ln v, T)
         self.k_lo = self.k_hi = None
         self.k_floor = None   # lowest lattice index with an equilibrium state
+        self.status = CONVERGED   # worst solver status of the states tabulated
 
     def cover(self, lnP_lo, lnP_hi):
         """Make sure the nodes span [lnP_lo, lnP_hi] (one batch for the missing ones)."""
@@ -603,6 +604,7 @@ class _IsentropeLevel:
             return out
 
         def put(idx, st):
+            self.status = worst_status(self.status, getattr(st, "status", CONVERGED))
             out[0][idx] = np.asarray(st.h, dtype=float)
             out[1][idx] = np.log(np.asarray(st.v, dtype=float))
             out[2][idx] = np.asarray(st.T, dtype=float)
@@ -691,6 +693,11 @@ class EquilibriumIsentropes:
         self.M = float(fluid.mole_fractions @ fluid.molar_masses)
         self.ds, self.dlnP, self.span = float(ds), float(dlnP), float(span)
         self.levels = {}
+
+    @property
+    def status(self):
+        """Worst solver status of the states tabulated (eosfill.errors codes)."""
+        return worst_status(*(lev.status for lev in self.levels.values()))
 
     def _pair(self, s0, lnP_lo, lnP_hi):
         j = int(math.floor(s0 / self.ds))

@@ -48,7 +48,7 @@ import numpy as np
 
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, EosfillError, InputError, LimitWarning
+from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, EosfillError, InputError, LimitWarning, worst_status
 from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, isobaric_expansion, surface_exchange
 
 CAUTION = ("Caution: estimates from an equation of state and simplified heat-transfer models; local "
@@ -165,6 +165,7 @@ class TransientResult:
     flags: list = field(default_factory=list)
     description: list = field(default_factory=list)
     n_rhs: int = 0
+    status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
 
     # peaks
     def peak(self, name, which="max"):
@@ -210,6 +211,8 @@ class TransientResult:
         lines.append(f"closure (relative): mass {self.mass_closure:.2e}, energy {self.energy_closure:.2e}")
         if self.liquid_appeared:
             lines.append("a liquid phase appears (homogeneous equilibrium assumed)")
+        if self.status != CONVERGED:
+            lines.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
         for f in self.flags:
             lines.append(f"FLAG: {f}")
         lines.append(CAUTION)
@@ -297,7 +300,8 @@ class _Content:
         T, P = float(st.T), float(st.P)
         self.T_last = T
         return dict(T=T, P=P, h=u + P * v, u=u, v=v, v_eos=v_eos, x=x, n=n, beta=float(st.vapor_fraction),
-                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f, s=float(st.s))
+                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f, s=float(st.s),
+                    status=int(worst_status(getattr(st, "status", CONVERGED))))
 
     def _maybe_two_phase(self, T, P, v_eos, x):
         """Phase check of a single-phase (T, v) solution (pure: saturation curve;
@@ -378,6 +382,7 @@ class _Model:
                 self.bank_contents.append(c)
         self._nozzle_cache = {}
         self._isentrope_tables = {}
+        self.status = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
         self.n_rhs = 0
         self.range_warning = False
 
@@ -405,6 +410,7 @@ class _Model:
         c = self.bank_contents[j]
         nb, Ub = y[self.ib + 2 * j], y[self.ib + 2 * j + 1]
         st = c.state(nb * c._kernel.x, Ub)
+        self.status = worst_status(self.status, st.get("status"))
         return dict(P=st["P"], T=st["T"], h=st["h"], kernel=st["kernel"], v_eos=st["v_eos"], x=st["x"],
                     pr=st["pr"], key=None, bank=j, st=st)
 
@@ -484,6 +490,7 @@ class _Model:
         N = y[:nc]
         U = y[self.iU]
         g = self.content.state(N, U)
+        self.status = worst_status(self.status, g.get("status"))
         T, P, h = g["T"], g["P"], g["h"]
         M_x = float(g["x"] @ self.fluid.molar_masses)
         ndot_in = ndot_out = 0.0
@@ -959,7 +966,8 @@ class _Run:
         a = m.ia
         res.mass_in, res.mass_out = float(ys[-1, a]), float(ys[-1, a + 1])
         res.heat_from_ambient = float(ys[-1, a + 5])
-        res.mass_closure, res.energy_closure, res.state_residual = _closure(m, ys, rows, self.y0)
+        res.mass_closure, res.energy_closure, res.state_residual, st_closure = _closure(m, ys, rows, self.y0)
+        res.status = worst_status(m.status, st_closure, *(t.status for t in m._isentrope_tables.values()))
         res.flags = _flags(res, limits)
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
@@ -1012,12 +1020,13 @@ def _recomputed_row(fluid, V, row):
     with np.errstate(invalid="ignore", divide="ignore"):
         if g["pr"] is None:
             st = f.state(T=row["T"], v=g["v"])
-            return g["n"], g["n"] * float(st.u), (float(st.P) - row["P"]) / row["P"]
+            return (g["n"], g["n"] * float(st.u), (float(st.P) - row["P"]) / row["P"],
+                    worst_status(getattr(st, "status", CONVERGED)))
         st = f.single_phase(row["T"], row["P"])
         if abs(float(st.v) / g["v"] - 1.0) > 1e-6:   # the content is on the other root
             st = f.single_phase(row["T"], row["P"], which="liquid" if g["v"] < float(st.v) else "vapour")
     n = V / float(st.v)
-    return n, n * float(st.u), 0.0
+    return n, n * float(st.u), 0.0, worst_status(getattr(st, "status", CONVERGED))
 
 
 def _closure(m, ys, rows, y0):
@@ -1038,6 +1047,7 @@ def _closure(m, ys, rows, y0):
     mass_cl = float(np.max(np.abs(mass - m0 - m_in + m_out) / mass_scale))
     E = np.array([q[1] for q in recomputed])
     p_res = float(np.max(np.abs([q[2] for q in recomputed])))
+    status = worst_status(*(q[3] for q in recomputed))
     Ew = np.zeros(len(rows))
     Ew0 = 0.0
     if m.wall is not None:
@@ -1061,7 +1071,7 @@ def _closure(m, ys, rows, y0):
     # of a very heavy wall's energy (the isothermal limit) would otherwise set the closure
     scale = (np.abs(H_in) + np.abs(H_out) + np.abs(Q_amb) + np.abs(ys[:, a + 4]) + n_max * R * 300.0
              + 1e-9 * np.abs(Ew))
-    return mass_cl, float(np.max(np.abs(lhs) / scale)), p_res
+    return mass_cl, float(np.max(np.abs(lhs) / scale)), p_res, status
 
 
 def _flags(res, limits):

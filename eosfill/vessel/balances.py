@@ -49,13 +49,15 @@ local codes, the vessel's approval documents and licensed practice govern.
 """
 from __future__ import annotations
 
+import contextvars
+import functools
 import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, InputError
+from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, InputError, worst_status
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models (adiabatic or "
            "lumped-wall balances); local codes, the vessel's approval documents and licensed "
@@ -197,11 +199,58 @@ def common_fluid(*fluids):
     return fl, zs
 
 
+# the worst solver status of the states a result is built on (codes of eosfill.errors):
+# every state the balances use goes through _state, which records it here while a
+# result is being computed (see _StatusRecord)
+_STATUS = contextvars.ContextVar("eosfill_vessel_status", default=None)
+
+
+class _StatusRecord:
+    """Context: collects the worst status of the states solved inside it (nested records
+    pass theirs on to the enclosing one)."""
+
+    def __enter__(self):
+        self.worst = [CONVERGED]
+        self._token = _STATUS.set(self.worst)
+        return self
+
+    def __exit__(self, *exc):
+        _STATUS.reset(self._token)
+        _note_status(self.worst[0])
+        return False
+
+    @property
+    def status(self):
+        return int(self.worst[0])
+
+
+def _note_status(code):
+    rec = _STATUS.get()
+    if rec is not None:
+        rec[0] = worst_status(rec[0], code)
+
+
+def _with_status(func):
+    """Decorator of the vessel-layer entry points: the Result returned carries the worst
+    solver status of every state solved while it was built (``Result.status``)."""
+    @functools.wraps(func)
+    def run(*args, **kwargs):
+        with _StatusRecord() as rec:
+            res = func(*args, **kwargs)
+        res.status = worst_status(res.status, rec.status)
+        return res
+
+    return run
+
+
 def _state(fluid, z, **spec):
-    """State of composition z (silences the 0/0 of absent components)."""
+    """State of composition z (silences the 0/0 of absent components); its solver status
+    (``getattr(state, "status", CONVERGED)``) is recorded for the result being built."""
     f = fluid.with_composition(z) if z is not None else fluid
     with np.errstate(invalid="ignore", divide="ignore"):
-        return f.state(**spec)
+        st = f.state(**spec)
+    _note_status(getattr(st, "status", CONVERGED))
+    return st
 
 
 def _comp_dict(fluid, z):
@@ -462,6 +511,7 @@ class Result:
     mass_closure: float
     settled: Settled | None = None
     closure_tolerance: float = CLOSURE_TOLERANCE
+    status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
     supply: dict | None = None
     stages: list = field(default_factory=list)
     comparison: dict | None = None
@@ -526,6 +576,8 @@ class Result:
                        f"bank ends at {_qty(c['bank_P'], 'pressure')}")
         out.append(f"energy closure {self.energy_closure:.3e} (relative to n R T), mass closure "
                    f"{self.mass_closure:.3e} (relative)")
+        if self.status != CONVERGED:
+            out.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
         for n in self.notes:
             out.append(f"note: {n}")
         for fl in self.flags:
@@ -640,6 +692,7 @@ def _expand_up(func, lo, guess, cap, what):
 # --------------------------------------------------------------------------
 # fill from a supply at constant state
 # --------------------------------------------------------------------------
+@_with_status
 def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop="target_pressure",
          target=None, temperature_limit=None, heat=0.0, settled_temperature=None,
          nominal_pressure=None, nominal_temperature=T_NOMINAL, state_of_charge=False,
@@ -884,6 +937,7 @@ def _liquid_density_at(fluid, z, T):
                 if T >= fluid.Tc[i]:
                     return None
                 sat = equilibrium.saturation_pressure(np.array([T]), _pure_params(fluid, i))
+                _note_status(sat.get("status"))
                 vL = float(np.asarray(sat["v_L"]).ravel()[0]) - float(fluid.volume_shift[i])
                 return float(fluid.molar_masses[i]) / vL
             _, Pb, _ = equilibrium.bubble_point(np.asarray(z), f.params, T=T)

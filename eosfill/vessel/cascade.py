@@ -12,7 +12,7 @@ import numpy as np
 
 from eosfill.errors import InputError
 from eosfill.vessel.vent import _gauss_legendre
-from eosfill.vessel.balances import FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict, _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg, _overfill_flag, _positive, _recomputed_content, _refuse_unclosed, _scan_first, _settle, _state, _z_of, common_fluid
+from eosfill.vessel.balances import FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict, _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg, _overfill_flag, _positive, _recomputed_content, _refuse_unclosed, _scan_first, _settle, _state, _with_status, _z_of, common_fluid
 
 @dataclass
 class Bank:
@@ -47,6 +47,7 @@ class _BankDraw:
         return float(np.sum(w * np.asarray(st.h)))
 
 
+@_with_status
 def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch_pressure_difference=0.0,
                  stop="target_pressure", target=None, temperature_limit=None, heat=0.0,
                  settled_temperature=None, nominal_pressure=None, nominal_temperature=T_NOMINAL,

@@ -12,7 +12,7 @@ import math
 import numpy as np
 
 from eosfill.errors import ConvergenceError, InputError
-from eosfill.vessel.balances import VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _positive, _recomputed_content, _refuse_unclosed, _state, common_fluid
+from eosfill.vessel.balances import VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _positive, _recomputed_content, _refuse_unclosed, _state, _with_status, common_fluid
 
 def _gauss_legendre(a, b, m=24, panels=4):
     x, w = np.polynomial.legendre.leggauss(m)
@@ -55,6 +55,7 @@ def _isentrope_enthalpy_integral(fluid, z, s0, V, n_a, n_b):
     return total
 
 
+@_with_status
 def vent(vessel: Vessel, initial: Stream, *, stop="target_pressure", target=None, temperature_limit=None,
          limits=None):
     """End state of an adiabatic vent of a rigid vessel.
