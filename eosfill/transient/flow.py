@@ -248,6 +248,7 @@ class IsentropicNozzle:
     T0 : upstream temperature [K];  v0_eos : upstream model molar volume [m³/mol]
     x : upstream mole fractions (default the fluid's);  kernel : TVKernel to reuse
     check_phase : test whether the throat leaves the stable single-phase region
+    equilibrium : go straight to the homogeneous-equilibrium path (throat known two-phase)
     hint : ignored (kept for compatibility)
     isentropes : EquilibriumIsentropes of the same composition to share, or None
 
@@ -257,7 +258,8 @@ class IsentropicNozzle:
     two_phase : whether the equilibrium path was used
     """
 
-    def __init__(self, fluid, T0, v0_eos, x=None, kernel=None, check_phase=True, hint=None, isentropes=None):
+    def __init__(self, fluid, T0, v0_eos, x=None, kernel=None, check_phase=True, hint=None, isentropes=None,
+                 equilibrium=False):
         self.fluid = fluid
         self.hint = hint  # accepted for compatibility; the throat no longer depends on a previous one
         k = kernel if kernel is not None else TVKernel(fluid, x)
@@ -270,6 +272,10 @@ class IsentropicNozzle:
             raise InputError("upstream state", dict(T=T0, v=v0_eos), "a state with P > 0")
         self.two_phase = False
         self._table = None
+        if equilibrium:   # the caller knows the throat is two-phase: straight to the HEM path
+            self.two_phase = True
+            self._equilibrium_path(self._fluid_x(), isentropes)
+            return
         try:
             self._sonic(up)
             leaves = check_phase and self._throat_two_phase()
@@ -522,6 +528,10 @@ class _IsentropeLevel:
         self.k_floor = None   # lowest lattice index with an equilibrium state
         self.status = CONVERGED   # worst solver status of the states tabulated
 
+    # when the range must grow, grow it by this much more in ln P (fewer, larger batches
+    # as a vent's pressure falls)
+    MARGIN_BELOW, MARGIN_ABOVE = 1.0, 0.2
+
     def cover(self, lnP_lo, lnP_hi):
         """Make sure the nodes span [lnP_lo, lnP_hi] (one batch for the missing ones)."""
         k_lo = int(math.floor(lnP_lo / self.d)) - 1
@@ -530,6 +540,14 @@ class _IsentropeLevel:
             k_lo = max(k_lo, self.k_floor)
         if self.k_lo is not None and k_lo >= self.k_lo and k_hi <= self.k_hi:
             return
+        if self.k_lo is not None:
+            if k_lo < self.k_lo:
+                k_lo = int(math.floor((lnP_lo - self.MARGIN_BELOW) / self.d))
+            if k_hi > self.k_hi:
+                k_hi = int(math.ceil((lnP_hi + self.MARGIN_ABOVE) / self.d))
+            k_lo, k_hi = min(k_lo, self.k_lo), max(k_hi, self.k_hi)
+            if self.k_floor is not None:
+                k_lo = max(k_lo, self.k_floor)
         missing = np.array([k for k in range(k_hi, k_lo - 1, -1) if k not in self.nodes], dtype=int)
         for k, row in zip(missing, zip(*self._states(np.exp(missing * self.d)))):
             self.nodes[int(k)] = row
@@ -651,7 +669,7 @@ class _IsentropeLevel:
                 pts.append((x_new, row[3]))
             else:
                 x_one, row_one = x_new, row
-            if abs(x_one - x_two) < 1e-9:
+            if abs(x_one - x_two) < 1e-7:
                 break
         return (x_one,) + tuple(row_one[:3])
 

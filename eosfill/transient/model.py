@@ -452,9 +452,10 @@ class _Model:
             noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0, isentropes=tables)
         else:
             known = self._throat_known_single(up)
+            two = self._throat_known_two_phase(up)
             noz = _flow.IsentropicNozzle(self.fluid, up["T"], up["v_eos"], kernel=up["kernel"],
-                                         check_phase=not known, isentropes=tables)
-            if not known:
+                                         check_phase=not known, isentropes=tables, equilibrium=two)
+            if not (known or two):
                 self._last_throat = (noz.T_star, math.log(noz.P_star), np.array(up["x"]), noz.two_phase,
                                      up["T"], math.log(up["P"]))
         if key is not None:
@@ -472,6 +473,16 @@ class _Model:
             f = self.fluid if np.array_equal(x, self.fluid.mole_fractions) else self.fluid.with_composition(x)
             tab = self._isentrope_tables[key] = _flow.EquilibriumIsentropes(f)
         return tab
+
+    def _throat_known_two_phase(self, up):
+        """Go straight to the equilibrium throat while the upstream state stays within 0.5 K
+        and 0.01 in ln P of one whose throat was two-phase (common practice, no source; the
+        two paths give the same G* where the throat meets the phase boundary)."""
+        c = getattr(self, "_last_throat", None)
+        if c is None or not c[3]:
+            return False
+        return (abs(c[4] - up["T"]) < 0.5 and abs(c[5] - math.log(up["P"])) < 0.01
+                and np.max(np.abs(c[2] - up["x"])) < 1e-6)
 
     def _throat_known_single(self, up):
         """Skip the throat's phase test while the upstream state stays within 0.5 K and
