@@ -29,7 +29,7 @@ import os
 import sys
 import warnings
 
-from ..errors import EosfillError, InputError
+from eosfill.errors import EosfillError, InputError
 
 STATUSES = ("ok", "input", "solver", "internal")
 EXIT_CODES = {"ok": 0, "input": 2, "solver": 3, "internal": 4}
@@ -137,6 +137,16 @@ def _run_serial(run_case, run_batch, chunks, on_rows):
         on_rows(run_chunk(run_case, run_batch, items))
 
 
+def _worker_init():
+    """A pool worker: default signal handling (a forked worker would inherit the
+    parent's SIGTERM handler; a worker told to stop must simply stop), and the
+    parent's progress bar is not the worker's."""
+    import signal
+
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C: the parent stops the pool
+
+
 def _terminate_pool(pool):
     terminate = getattr(pool, "terminate_workers", None)  # Python >= 3.14
     if terminate is not None:
@@ -160,7 +170,7 @@ def _run_pool(run_case, run_batch, chunks, on_rows, workers):
     pending = {i: items for i, items in enumerate(chunks)}
     deaths = dict.fromkeys(pending, 0)
     while pending:
-        pool = ProcessPoolExecutor(max_workers=workers, mp_context=ctx)
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_worker_init)
         try:
             futures = {pool.submit(run_chunk, run_case, run_batch, items): i for i, items in pending.items()}
             broken = False
@@ -252,7 +262,7 @@ def run_study(run_case, cases, *, run_batch=None, output=None, resume=False, wor
     """
     import pandas as pd
 
-    from .store import ResultStore, order_columns
+    from eosfill.study.store import ResultStore, order_columns
 
     cases = list(cases)
     n = len(cases)

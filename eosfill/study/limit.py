@@ -19,7 +19,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from ..errors import ConvergenceError, InputError
+from eosfill.errors import ConvergenceError, InputError
 
 
 class LimitNotBracketed(ConvergenceError):

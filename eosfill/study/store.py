@@ -24,7 +24,7 @@ import os
 import uuid
 from pathlib import Path
 
-from ..errors import EosfillError, InputError
+from eosfill.errors import EosfillError, InputError
 
 FORMATS = (".parquet", ".csv")
 
