@@ -303,3 +303,32 @@ def test_cli_exit_codes_and_failed_count(tmp_path):
     assert pd.read_parquet(tmp_path / "rows.parquet")["status"].tolist() == ["ok", "input"]
     res = run(str(p), "-o", "rows.txt")
     assert res.returncode == 2 and ".parquet or .csv" in res.stderr
+
+
+def test_study_report_has_its_parts(tmp_path):
+    pytest.importorskip("matplotlib")
+    from eosfill.io.study_report import write_study_report
+
+    p = scenario_file(tmp_path, """
+        [sweep]
+        seed = 3
+        samples = 4
+        [sweep.grid]
+        "initial.pressure" = ["10 bar", "30 bar", "300 bar"]
+        "supply.temperature" = ["0 degC", "30 degC"]
+        [sweep.draw]
+        "stop.target_mass" = { distribution = "uniform", low = "5 kg", high = "7 kg" }
+    """)
+    study = load_study(p)
+    df = sweep_scenario(p, workers=1)
+    files = write_study_report(study, df, tmp_path / "study.html")
+    html = (tmp_path / "study.html").read_text(encoding="utf-8")
+    md = (tmp_path / "study.md").read_text(encoding="utf-8")
+    assert html.count('class="box caution"') == 2 and "licensed practice govern" in html
+    assert "Spearman" in html and "95 %" in html
+    # 8 cases with 300 bar initial pressure (above the supply's) fail and are listed with the key at fault
+    assert (df["status"] == "input").sum() == 8
+    failures = md.split("## Failed cases")[1]
+    assert failures.count("| input |") == 8 and "supply.pressure" in failures
+    # a contour and a histogram per main output, each a PNG
+    assert sum(f.suffix == ".png" for f in files) == 4 and html.count("data:image/png;base64,") == 4

@@ -43,23 +43,23 @@ def cmd_sweep(args):
 
     from eosfill.errors import EosfillError, InputError
 
-    for opt in ("workers", "chunk_size"):
-        v = getattr(args, opt)
-        if v is not None and v < 1:
-            raise InputError(f"--{opt.replace('_', '-')}", v, "a whole number >= 1")
-    if args.report is not None:
-        from eosfill.io.report import require_matplotlib
-
-        p = Path(args.report)
-        if not p.parent.resolve().is_dir():
-            raise InputError("--report", args.report, message=f"--report {args.report}: the folder "
-                             f"{p.parent} does not exist")
-        try:
-            require_matplotlib()
-        except EosfillError as exc:
-            raise InputError("--report", args.report, message=f"--report: {exc}") from None
     old = signal.signal(signal.SIGTERM, _on_sigterm)
     try:
+        for opt in ("workers", "chunk_size"):
+            v = getattr(args, opt)
+            if v is not None and v < 1:
+                raise InputError(f"--{opt.replace('_', '-')}", v, "a whole number >= 1")
+        if args.report is not None:
+            from eosfill.io.plots import require_matplotlib
+
+            p = Path(args.report)
+            if not p.parent.resolve().is_dir():
+                raise InputError("--report", args.report, message=f"--report {args.report}: the folder "
+                                 f"{p.parent} does not exist")
+            try:
+                require_matplotlib()
+            except EosfillError as exc:
+                raise InputError("--report", args.report, message=f"--report: {exc}") from None
         from eosfill.io.sweep import load_study, study_summary
         from eosfill.study import run_study
 
