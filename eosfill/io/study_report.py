@@ -193,7 +193,7 @@ def build_study_report(study, df, plots=True) -> Report:
                                 "not stop a real fill."])
     rep.heading("The study")
     rep.para(_study_words(study, df))
-    inputs = [c for c in spec.keys]
+    inputs = [c for c in spec.keys if c in df.columns]  # a limit search's input is an output column
     ok = df[df["status"] == "ok"]
     failed = df[df["status"] != "ok"]
     counts = df["status"].value_counts().to_dict()
