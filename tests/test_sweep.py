@@ -200,8 +200,8 @@ def test_pool_and_dask_give_the_same_rows_for_the_same_seed(tmp_path):
     p = scenario_file(tmp_path, """
         [sweep]
         seed = 5
-        samples = 6
-        chunk_size = 3
+        samples = 3
+        chunk_size = 2
         [sweep.grid]
         "initial.pressure" = ["10 bar", "30 bar"]
         [sweep.draw]
@@ -212,8 +212,10 @@ def test_pool_and_dask_give_the_same_rows_for_the_same_seed(tmp_path):
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                                   dashboard_address=None) as cluster, distributed.Client(cluster) as client:
         on_dask = sweep_scenario(p, client=client)
-    assert len(pool) == 12 and (pool["status"] == "ok").all()
+        by_address = sweep_scenario(p, scheduler=cluster.scheduler_address)  # as --scheduler tcp://host:port
+    assert len(pool) == 6 and (pool["status"] == "ok").all()
     pd.testing.assert_frame_equal(pool, on_dask)
+    pd.testing.assert_frame_equal(pool, by_address)
 
 
 def _children(pid):
@@ -231,7 +233,7 @@ def test_killed_sweep_resumes_with_every_case_once(tmp_path):
         [sweep]
         chunk_size = 1
         [sweep.grid]
-        "stop.target_pressure" = { from = "100 bar", to = "200 bar", steps = 24 }
+        "stop.target_pressure" = { from = "100 bar", to = "200 bar", steps = 14 }
     """, base=BASE.replace('target_mass = "7 kg"', 'target_pressure = "150 bar"'))
     out = tmp_path / "rows.csv"
     parts = tmp_path / "rows.csv.parts"
@@ -250,12 +252,12 @@ def test_killed_sweep_resumes_with_every_case_once(tmp_path):
         pytest.fail("no chunks written in time")
 
     try:
-        wait_for_chunks(2)
+        wait_for_chunks(1)
         workers = _children(proc.pid)
         assert workers, "no worker processes"
         os.kill(workers[0], signal.SIGTERM)  # a worker dies mid-sweep: the pool is rebuilt
         n = len(list(parts.glob("part-*.csv")))
-        wait_for_chunks(n + 3)
+        wait_for_chunks(n + 2)
         workers = _children(proc.pid)
         proc.send_signal(signal.SIGTERM)  # then the parent
         proc.communicate(timeout=60)
@@ -273,36 +275,35 @@ def test_killed_sweep_resumes_with_every_case_once(tmp_path):
             pytest.fail(f"worker {w} still running")
     assert not out.exists() and parts.exists()
     written = pd.concat([pd.read_csv(f) for f in parts.glob("part-*.csv")])["case"].tolist()
-    assert 5 <= len(written) < 24 and len(set(written)) == len(written)
+    assert 3 <= len(written) < 14 and len(set(written)) == len(written)
     res = subprocess.run(cmd + ["--resume"], cwd=tmp_path, capture_output=True, text=True, timeout=300)
     assert res.returncode == 0, res.stderr
     df = pd.read_csv(out)
-    assert sorted(df["case"]) == list(range(24))
+    assert sorted(df["case"]) == list(range(14))
     assert (df["status"] == "ok").all()
     assert not parts.exists()
-    assert "24 cases: 24 ok, 0 failed" in res.stdout
+    assert "14 cases: 14 ok, 0 failed" in res.stdout
 
 
-def test_cli_exit_codes_and_failed_count(tmp_path):
-    def run(*args):
-        return subprocess.run([sys.executable, "-m", "eosfill", "sweep", *args], cwd=tmp_path,
-                              capture_output=True, text=True, timeout=300)
+def test_cli_exit_codes_and_failed_count(tmp_path, capsys, monkeypatch):
+    from eosfill.io.cli import main
 
+    monkeypatch.chdir(tmp_path)
     bad = scenario_file(tmp_path, '[sweep]\n[sweep.grid]\n"initial.pressur" = ["1 bar", "2 bar"]\n', name="bad.toml")
-    res = run(str(bad), "-o", "x.parquet", "--workers", "1")
-    assert res.returncode == 2 and "initial.pressur" in res.stderr
-    assert not (tmp_path / "x.parquet").exists()
+    assert main(["sweep", str(bad), "-o", "x.parquet", "--workers", "1"]) == 2
+    assert "initial.pressur" in capsys.readouterr().err
+    assert not (tmp_path / "x.parquet").exists() and not (tmp_path / "x.parquet.parts").exists()
     p = scenario_file(tmp_path, """
         [sweep]
         [sweep.grid]
         "initial.pressure" = ["20 bar", "300 bar"]
     """)
-    res = run(str(p), "-o", "rows.parquet", "--workers", "1")
-    assert res.returncode == 0, res.stderr
-    assert "2 cases: 1 ok, 1 failed (input 1" in res.stdout
+    assert main(["sweep", str(p), "-o", "rows.parquet", "--workers", "1"]) == 0
+    assert "2 cases: 1 ok, 1 failed (input 1" in capsys.readouterr().out
     assert pd.read_parquet(tmp_path / "rows.parquet")["status"].tolist() == ["ok", "input"]
-    res = run(str(p), "-o", "rows.txt")
-    assert res.returncode == 2 and ".parquet or .csv" in res.stderr
+    assert main(["sweep", str(p), "-o", "rows.txt"]) == 2
+    assert ".parquet or .csv" in capsys.readouterr().err
+    assert main(["sweep", str(p), "-o", "rows.csv", "--workers", "0"]) == 2
 
 
 def test_study_report_has_its_parts(tmp_path):
