@@ -142,3 +142,32 @@ def test_rank_correlation_orders_inputs_by_influence():
     df["y"] = 10 * df["a"] + df["b"]
     ranking = rank_correlations(df, ["a", "b", "c"], "y")
     assert [r[0] for r in ranking] == ["a", "b"] and ranking[0][1] > 0.9
+
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(chunks=st.lists(st.lists(st.integers(0, 19), min_size=1, max_size=6, unique=True), max_size=5),
+       half_written=st.booleans())
+def test_any_interruption_resumes_to_every_case_once(tmp_path_factory, chunks, half_written):
+    # whatever chunks a killed study left (disjoint case ids, any order, maybe a
+    # temporary file cut short), resuming runs exactly the missing cases
+    from eosfill.study import fingerprint, run_chunk
+
+    out = tmp_path_factory.mktemp("store") / "r.parquet"
+    cases = make_cases([Grid("x [-]", tuple(float(i) for i in range(20)))])
+    store = ResultStore(out, fingerprint(cases), len(cases))
+    seen = set()
+    for ids in chunks:
+        ids = [i for i in ids if i not in seen]
+        seen.update(ids)
+        store.write_chunk(run_chunk(cube, None, [(i, cases[i]) for i in ids]))
+    if half_written:
+        (store.parts / ".tmp-cut-short.parquet").write_bytes(b"PAR1\x00")
+    ran = []
+    df = run_study(lambda c: ran.append(c["x [-]"]) or cube(c), cases, output=out, workers=1, resume=True)
+    assert sorted(ran) == [float(i) for i in range(20) if i not in seen]
+    assert df["case"].tolist() == list(range(20))
+    assert df["y [-]"].tolist() == [float(i) ** 3 for i in range(20)]

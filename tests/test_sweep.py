@@ -15,6 +15,7 @@ What is checked here, and where the physics is checked instead:
 * SIGTERM to a worker and then to the parent of ``eosfill sweep``, then
   ``--resume``: every case exactly once.
 """
+import importlib.util
 import math
 import os
 import signal
@@ -193,6 +194,11 @@ def test_limit_search_answer_meets_the_limit_when_rerun(tmp_path):
         past = study.case.run_one({**case, "stop.target_mass [kg]": m + 0.005})["T_end [K]"]
         assert at <= 318.15 < past
         assert 3 <= row["limit runs"] <= 40
+    if importlib.util.find_spec("matplotlib") is not None:  # the report draws the limit-search curve
+        from eosfill.io.study_report import build_study_report
+
+        rep = build_study_report(study, df)
+        assert [f.name for f in rep.figures].count("limit") == 1
 
 
 def test_pool_and_dask_give_the_same_rows_for_the_same_seed(tmp_path):

@@ -35,7 +35,8 @@ MAIN_OUTPUTS = ("T_gas_max [K]", "T_end [K]", "P_settled [Pa]", "T_wall_inner_mi
 MAX_FAILURE_ROWS = 200
 
 # SI column unit -> (shown unit, scale, offset): shown = SI * scale + offset
-_SHOWN = {"K": ("°C", 1.0, -273.15), "Pa": ("bar", 1e-5, 0.0), "m3": ("L", 1e3, 0.0), "Pa/s": ("MPa/min", 6e-5, 0.0)}
+_SHOWN = {"K": ("°C", 1.0, -273.15), "Pa": ("bar", 1e-5, 0.0), "m3": ("L", 1e3, 0.0), "m": ("mm", 1e3, 0.0),
+          "Pa/s": ("MPa/min", 6e-5, 0.0)}
 
 
 def _unit(col):
@@ -221,6 +222,9 @@ def build_study_report(study, df, plots=True) -> Report:
     rep.table(["output", "min", "5 %", "50 %", "95 %", "max", "mean ± standard error"], rows,
               "Percentiles by linear interpolation (numpy.percentile); standard error s/√n")
     main = _main_outputs(ok, outputs)
+    if spec.limit is not None:  # a limit search: its answer is the output of the study
+        answer = spec.limit.column(spec.limit.input)
+        main = [answer] + [c for c in main if c != answer][:1] if answer in outputs else main
     numeric_grids = [g.name for g in spec.grids if all(isinstance(v, (int, float)) for v in g.values)
                      and len(g.values) > 1]
     if len(ok) >= 3 and len(inputs) > 0:
