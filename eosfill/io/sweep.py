@@ -44,8 +44,9 @@ as ``<key path> [<SI unit>]`` (``initial.pressure [Pa]``; a plain number
 ``<output> at limit [unit]``, ``<input> bracket width [unit]`` and
 ``limit runs``; ``status`` (ok / input / solver / internal) and ``message``.
 
-End-state fills that share a mixture run as vectorised batches where the
-vessel layer allows it (:func:`eosfill.vessel.batch.fill_to_amount`); the
+End-state fills and vents that share a mixture run as vectorised batches
+where the vessel layer allows it (:func:`eosfill.vessel.batch.fill_to_amount`,
+:func:`eosfill.vessel.batch.vent_isentropic`); the
 rest run one at a time through :func:`eosfill.io.jobs.run_scenario`.
 
 Results are estimates from an equation of state and simplified models;
@@ -560,6 +561,14 @@ def _batchable(sc):
             and sc.supply.temperature_schedule is None)
 
 
+def _batchable_vent(sc):
+    """An adiabatic vent (no wall, no temperature limit) of the fluid's own composition."""
+    st, v = sc.stop, sc.vessel
+    return (sc.kind == "vent" and v.wall_mass is None and v.wall_specific_heat is None
+            and st.temperature_limit is None and sc.initial.composition is None
+            and (st.target_pressure is not None or st.target_mass is not None))
+
+
 def _mixture_key(sc):
     f = sc.fluid_spec
     return (tuple(sc.component_names()), tuple(sc.mole_fractions()), f.model, f.volume_shift,
@@ -576,11 +585,34 @@ def run_scenarios(scenarios):
     from eosfill.io import jobs
     from eosfill.vessel.batch import fill_to_amount
 
+    from eosfill.vessel.batch import vent_isentropic
+
     outs = [None] * len(scenarios)
-    groups = {}
+    groups, vents = {}, {}
     for i, sc in enumerate(scenarios):
         if _batchable(sc):
             groups.setdefault(_mixture_key(sc), []).append(i)
+        elif _batchable_vent(sc):
+            vents.setdefault(_mixture_key(sc), []).append(i)
+    for rows in vents.values():
+        if len(rows) < 2:
+            continue
+        scs = [scenarios[i] for i in rows]
+
+        def vals(get):
+            return np.array([np.nan if get(s) is None else get(s) for s in scs], dtype=float)
+
+        try:
+            res = vent_isentropic(scs[0].fluid(), scs[0].mole_fractions(), vals(lambda s: s.vessel.volume),
+                                  vals(lambda s: s.initial.temperature),
+                                  target_pressure=vals(lambda s: s.stop.target_pressure),
+                                  target_mass=vals(lambda s: s.stop.target_mass),
+                                  P0=vals(lambda s: s.initial.pressure), mass0=vals(lambda s: s.initial.mass))
+        except Exception:  # noqa: BLE001 - the single path says what is wrong, case by case
+            continue
+        for k, i in enumerate(rows):
+            if res["ok"][k]:
+                outs[i] = _batch_vent_row(scenarios[i], res, k)
     for rows in groups.values():
         if len(rows) < 2:
             continue
@@ -656,3 +688,26 @@ def study_summary(df):
              + (" (" + ", ".join(f"{k} {counts[k]}" for k in ("input", "solver", "internal") if counts.get(k))
                 + "; see the status and message columns)" if failed else "")]
     return lines
+
+
+def _batch_vent_row(sc, res, k):
+    """:func:`result_row` of a vent computed by the batch (same numbers, same flags)."""
+    from eosfill.io import jobs
+    from eosfill.vessel.balances import EndState, _limit_flags
+
+    phase = str(res["phase"][k])
+    final = EndState(T=float(res["T"][k]), P=float(res["P"][k]), n=float(res["n"][k]), mass=float(res["mass"][k]),
+                     composition={}, phase=phase, vapor_fraction=float(res["vapor_fraction"][k]),
+                     liquid_volume_fraction=1.0 if phase == "liquid" else 0.0)
+    flags = ["a liquid phase forms during the vent"] if res["liquid"][k] else []
+    lim = jobs._limits(sc)
+    lim["_volume"] = sc.vessel.volume
+    _limit_flags(final, lim, flags, lowest_T=float(res["T_min"][k]))
+    stop = "target_pressure" if sc.stop.target_pressure is not None else "target_mass"
+    return {"T_end [K]": final.T, "P_end [Pa]": final.P, "mass_end [kg]": final.mass,
+            "mass_change [kg]": final.mass - float(res["m0"][k]), "phase_end": phase,
+            "vapor_fraction_end [-]": final.vapor_fraction, "T_wall_end [K]": NAN,
+            "T_min [K]": float(res["T_min"][k]), "P_settled [Pa]": NAN, "short_fill [kg]": NAN,
+            "state_of_charge [-]": NAN, "stop": stop, "stop_met": True,
+            "energy_closure [-]": float(res["energy_closure"][k]), "mass_closure [-]": float(res["mass_closure"][k]),
+            "flags": len(flags)}

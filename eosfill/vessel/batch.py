@@ -1,5 +1,6 @@
-"""End states of many fills at once: vectorised (V1)-(V3) and (V7) where the
-amount admitted is known in advance.
+"""End states of many fills and vents at once: vectorised (V1)-(V3) and (V7)
+where the amount admitted is known in advance, and (V4) for adiabatic vents
+(:func:`vent_isentropic`).
 
 :func:`eosfill.vessel.fill` solves one fill; its amount admitted is a root
 search except when the stop criterion fixes it (``target_mass``,
@@ -156,5 +157,126 @@ def fill_to_amount(fluid, z, V, T_in, P_in, target_mass, T_settle, T0=None, P0=N
             out["state_of_charge"][r] = (n_f[r] / V[r]) * np.asarray(st_r.v, dtype=float).reshape(-1)
         ok[rows] &= good
     out["m0"] = m0
+    out["ok"] = ok
+    return out
+
+
+def vent_isentropic(fluid, z, V, T0, target_pressure=None, target_mass=None, P0=None, mass0=None):
+    """End states of adiabatic vents (no wall, no temperature limit), many at once.
+
+    (V4) of :mod:`eosfill.vessel.balances`: the content left follows its
+    isentrope s = s_0 to the end pressure (``target_pressure`` [Pa]) or the
+    mass left (``target_mass`` [kg]; NaN where the other is given); the
+    enthalpy let out is ∫ h dn along it (Gauss-Legendre, as
+    :func:`eosfill.vessel.vent._isentrope_enthalpy_integral`), the lowest
+    temperature is taken over the same nine path points as
+    :func:`eosfill.vessel.vent.vent`.  The same arithmetic as ``vent``; cases
+    whose path or end state is two-phase (the integral is then split at the
+    dew point, case by case) come back with ``ok`` False.
+
+    Returns
+    -------
+    dict of arrays
+        ``ok``, ``T``, ``P``, ``n``, ``mass``, ``m0``, ``phase``,
+        ``vapor_fraction``, ``T_min``, ``liquid``, ``energy_closure``,
+        ``mass_closure`` (SI).
+    """
+    import math
+
+    from eosfill.vessel.vent import _gauss_legendre
+
+    arrays = [np.asarray(a, dtype=float) for a in (V, T0)]
+    n_cases = np.broadcast(*arrays).size
+    V, T0 = (np.broadcast_to(a, (n_cases,)).copy() for a in arrays)
+
+    def col(a):
+        return np.full(n_cases, np.nan) if a is None else np.broadcast_to(np.asarray(a, dtype=float), (n_cases,)).copy()
+
+    P_end, m_end, P0, mass0 = col(target_pressure), col(target_mass), col(P0), col(mass0)
+    z = np.array(z, dtype=float)
+    M = float(z @ fluid.molar_masses)
+    ok = np.ones(n_cases, dtype=bool)
+    out = {k: np.full(n_cases, np.nan) for k in ("T", "P", "n", "mass", "m0", "vapor_fraction", "T_min",
+                                                  "energy_closure", "mass_closure")}
+    out["phase"] = np.full(n_cases, "", dtype=object)
+    out["liquid"] = np.zeros(n_cases, dtype=bool)
+    # initial content (vessel._initial_content)
+    n0 = np.full(n_cases, np.nan)
+    u0 = np.full(n_cases, np.nan)
+    s0 = np.full(n_cases, np.nan)
+    P_start = np.full(n_cases, np.nan)
+    by_P = np.isfinite(P0)
+    if by_P.any():
+        st0 = _states(fluid, z, T=T0[by_P], P=P0[by_P])
+        n0[by_P] = V[by_P] / np.asarray(st0.v, dtype=float).reshape(-1)
+        for key, arr in (("u", u0), ("s", s0), ("P", P_start)):
+            arr[by_P] = np.asarray(getattr(st0, key), dtype=float).reshape(-1)
+    by_m = ~by_P & np.isfinite(mass0)
+    if by_m.any():
+        n0[by_m] = mass0[by_m] / M
+        try:
+            st0 = _states(fluid, z, T=T0[by_m], v=V[by_m] / n0[by_m])
+            for key, arr in (("u", u0), ("s", s0), ("P", P_start)):
+                arr[by_m] = np.asarray(getattr(st0, key), dtype=float).reshape(-1)
+        except Exception:  # noqa: BLE001 - the single path names the input
+            ok[by_m] = False
+    U0 = n0 * u0
+    by_target_P = np.isfinite(P_end)
+    ok &= np.where(by_target_P, P_end < P_start, m_end < n0 * M)
+    ok &= np.isfinite(n0) & np.isfinite(s0)
+    rows = np.flatnonzero(ok)
+    if rows.size == 0:
+        out["ok"] = ok
+        return out
+    # the end of the isentrope
+    n_f = np.full(n_cases, np.nan)
+    T_f, P_f, u_f = (np.full(n_cases, np.nan) for _ in range(3))
+    phase_f = np.full(n_cases, "", dtype=object)
+    beta_f = np.full(n_cases, np.nan)
+    for mask, spec in ((by_target_P & ok, "P"), (~by_target_P & ok, "m")):
+        r = np.flatnonzero(mask)
+        if r.size == 0:
+            continue
+        if spec == "P":
+            st = _states(fluid, z, P=P_end[r], s=s0[r])
+            n_f[r] = V[r] / np.asarray(st.v, dtype=float).reshape(-1)
+        else:
+            n_f[r] = m_end[r] / M
+            st = _states(fluid, z, s=s0[r], v=V[r] / n_f[r])
+        T_f[r], P_f[r], u_f[r] = (np.asarray(getattr(st, k), dtype=float).reshape(-1) for k in ("T", "P", "u"))
+        phase_f[r] = np.asarray(st.phase, dtype=object).reshape(-1)
+        beta_f[r] = np.asarray(st.vapor_fraction, dtype=float).reshape(-1)
+    # the phase along the isentrope (17 points in ln n), the quadrature nodes and the 9 path points of each case
+    grids, nodes, weights, paths = [], [], [], []
+    for i in rows:
+        xa, xb = math.log(n0[i]), math.log(n_f[i])
+        grids.append(np.linspace(xa, xb, 17))
+        x, w = _gauss_legendre(xb, xa)
+        nodes.append(np.exp(x))
+        weights.append(w)
+        paths.append(np.geomspace(n0[i], n_f[i], 9))
+    k_grid, k_node, k_path = 17, nodes[0].size, 9
+    s_rep = np.repeat(s0[rows], k_grid)
+    V_rep = np.repeat(V[rows], k_grid)
+    ph = np.asarray(_states(fluid, z, s=s_rep, v=V_rep / np.exp(np.concatenate(grids))).phase).reshape(rows.size, k_grid)
+    st_n = _states(fluid, z, s=np.repeat(s0[rows], k_node), v=np.repeat(V[rows], k_node) / np.concatenate(nodes))
+    h = np.asarray(st_n.h, dtype=float).reshape(rows.size, k_node)
+    st_p = _states(fluid, z, s=np.repeat(s0[rows], k_path), v=np.repeat(V[rows], k_path) / np.concatenate(paths))
+    T_path = np.asarray(st_p.T, dtype=float).reshape(rows.size, k_path)
+    ph_path = np.asarray(st_p.phase, dtype=object).reshape(rows.size, k_path)
+    for j, i in enumerate(rows):
+        if np.any(ph[j] == "two-phase") or phase_f[i] == "two-phase":
+            ok[i] = False  # the integral is split at the dew point: the single path
+            continue
+        E_out = 0.0 + float(np.sum(weights[j] * nodes[j] * h[j]))
+        mass = n_f[i] * M
+        out["T"][i], out["P"][i], out["n"][i], out["mass"][i] = T_f[i], P_f[i], n_f[i], mass
+        out["phase"][i], out["vapor_fraction"][i] = phase_f[i], beta_f[i]
+        out["energy_closure"][i] = ((n_f[i] * u_f[i] + 0.0 * T_f[i] - U0[i] - 0.0 * T0[i] + E_out)
+                                    / (max(n_f[i], 1e-300) * R * T_f[i]))
+        out["mass_closure"][i] = (mass - n_f[i] * M) / mass
+        out["T_min"][i] = min([float(t) for t in T_path[j]] + [float(T_f[i])])
+        out["liquid"][i] = bool(np.isin(ph_path[j], ("two-phase", "liquid")).any())
+    out["m0"] = n0 * M
     out["ok"] = ok
     return out
