@@ -3,10 +3,12 @@
 
 Exit codes as the rest of the command line: 0 the sweep is done (also when
 some cases failed: their rows say why, and the count is printed); 2 bad
-input (the scenario, its [sweep], an option); 3 a solver failure outside
-the cases (e.g. no Dask scheduler answering is 2, a broken cluster 3); 4 an
-internal error.  SIGTERM (and Ctrl-C) stop the sweep after terminating its
-workers; the chunks written stay, and ``--resume`` continues from them.
+input (the scenario, its [sweep], an option, an output folder that does not
+exist, no Dask scheduler answering at --scheduler); 3 an eosfill error
+outside the cases (e.g. the chunks of a study found incomplete on
+assembly); 4 an internal error.  SIGTERM (and Ctrl-C) stop the sweep after
+terminating its workers (exit 143 for SIGTERM); the chunks written stay,
+and ``--resume`` continues from them.
 """
 from __future__ import annotations
 
