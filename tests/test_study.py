@@ -111,6 +111,14 @@ def test_store_resumes_only_the_missing_cases(tmp_path):
     assert pd.read_csv(out)["case"].tolist() == list(range(10))
 
 
+def test_bad_options_write_nothing(tmp_path):
+    cases = make_cases([Grid("x [-]", (1.0, 2.0))])
+    for kw in ({"workers": 0}, {"chunk_size": 0}, {"workers": 1.5}):
+        with pytest.raises(InputError):
+            run_study(cube, cases, output=tmp_path / "r.csv", **kw)
+    assert list(tmp_path.iterdir()) == []
+
+
 def test_resume_refuses_another_study(tmp_path):
     out = tmp_path / "r.parquet"
     cases = make_cases([Grid("x [-]", (1.0, 2.0))])

@@ -350,6 +350,7 @@ def test_cli_exit_codes_and_failed_count(tmp_path, capsys, monkeypatch):
     assert main(["sweep", str(p), "-o", "rows.txt"]) == 2
     assert ".parquet or .csv" in capsys.readouterr().err
     assert main(["sweep", str(p), "-o", "rows.csv", "--workers", "0"]) == 2
+    assert not (tmp_path / "rows.csv.parts").exists()  # a bad option writes nothing
 
 
 def test_study_report_has_its_parts(tmp_path):

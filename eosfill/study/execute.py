@@ -267,12 +267,10 @@ def run_study(run_case, cases, *, run_batch=None, output=None, resume=False, wor
     cases = list(cases)
     n = len(cases)
     input_names = list(dict.fromkeys(k for c in cases for k in c))
-    store = None
-    done = set()
-    if output is not None:
-        store = ResultStore(output, fingerprint(cases, what), n, resume=resume)
-        done = store.done_ids()
-    items = [(i, c) for i, c in enumerate(cases) if i not in done]
+    if workers is not None and (isinstance(workers, bool) or int(workers) != workers or workers < 1):
+        raise InputError("workers", workers, "a whole number >= 1")
+    if chunk_size is not None and (int(chunk_size) != chunk_size or chunk_size < 1):
+        raise InputError("chunk_size", chunk_size, "a whole number >= 1")
     own_client = None
     if scheduler is not None and client is None:
         try:
@@ -284,11 +282,21 @@ def run_study(run_case, cases, *, run_batch=None, output=None, resume=False, wor
             own_client = client = Client(scheduler, timeout="20s")
         except OSError as exc:
             raise InputError("scheduler", scheduler, message=f"no Dask scheduler answers at {scheduler}: {exc}") from None
+    # every check above comes before anything is written (a bad option leaves no parts folder)
+    store = None
+    done = set()
+    try:
+        if output is not None:
+            store = ResultStore(output, fingerprint(cases, what), n, resume=resume)
+            done = store.done_ids()
+    except BaseException:
+        if own_client is not None:
+            own_client.close()
+        raise
+    items = [(i, c) for i, c in enumerate(cases) if i not in done]
     if client is not None:
         workers = max(1, len(client.scheduler_info().get("workers", {})))
     workers = int(workers or default_workers())
-    if workers < 1:
-        raise InputError("workers", workers, "a whole number >= 1")
     size = chunk_size or max(1, min(500, math.ceil(len(items) / (4 * workers)) if items else 1))
     chunks = _chunks(items, int(size))
     rows_mem = []
