@@ -48,6 +48,7 @@ import numpy as np
 
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
+from eosfill.equilibrium.solid import path_solid_risk
 from eosfill.errors import ConvergenceError, EosfillError, InputError, LimitWarning
 from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, surface_exchange
 
@@ -163,6 +164,7 @@ class TransientResult:
     flags: list = field(default_factory=list)
     description: list = field(default_factory=list)
     n_rhs: int = 0
+    solid: np.ndarray = None  # per row: True where the content may hold a solid (eosfill.equilibrium.solid)
 
     # peaks
     def peak(self, name, which="max"):
@@ -227,7 +229,7 @@ class TransientResult:
         import pandas as pd
 
         cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                "Q_wall", "phase", "vapour_fraction", "bank")
+                "Q_wall", "phase", "vapour_fraction", "bank", "solid")
         return pd.DataFrame({c: getattr(self, c) for c in cols})
 
     def write(self, json_path=None, csv_path=None):
@@ -237,7 +239,7 @@ class TransientResult:
                 json.dump(self.to_dict(), fh, indent=1, default=float)
         if csv_path is not None:
             cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                    "Q_wall", "vapour_fraction", "bank", "phase")
+                    "Q_wall", "vapour_fraction", "bank", "phase", "solid")
             with open(csv_path, "w") as fh:
                 fh.write(",".join(f"{c}" for c in cols) + "\n")
                 for i in range(self.t.size):
@@ -920,7 +922,11 @@ class _Run:
         res.mass_in, res.mass_out = float(ys[-1, a]), float(ys[-1, a + 1])
         res.heat_from_ambient = float(ys[-1, a + 5])
         res.mass_closure, res.energy_closure = _closure(m, ys, rows, self.y0)
-        res.flags = _flags(res, limits)
+        risk = path_solid_risk(m.fluid, T, P, np.array([r["gas"]["x"] for r in rows]))
+        res.solid = np.asarray(risk.flag, dtype=bool)
+        res.flags = _flags(res, limits) + [f"solid region first seen at {times[i[0]]:.4g} s "
+                                           f"({int(res.solid.sum())} of {res.solid.size} output rows): {text}"
+                                           for i, text in risk.reasons[:1]]
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res
