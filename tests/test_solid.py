@@ -214,6 +214,15 @@ def test_melting_pressure_rises_with_temperature(fluid, a, b):
     assert p1 >= S.triple_point(fluid).P * (1 - 1e-12) and p2 >= p1
 
 
+@settings(max_examples=80, deadline=None)
+@given(fluid=hs.sampled_from(["carbon dioxide", "nitrogen", "argon", "methane", "ethane", "propane"]),
+       T=hs.floats(40.0, 400.0), P1=hs.floats(1.0, 1e9), P2=hs.floats(1.0, 1e9))
+def test_pure_flag_never_clears_when_pressure_rises(fluid, T, P1, P2):
+    # away from water's anomaly, compressing a pure fluid at fixed T never leaves the solid region
+    lo, hi = sorted((P1, P2))
+    assert bool(S.solid_risk(fluid, T, hi)) >= bool(S.solid_risk(fluid, T, lo))
+
+
 def test_curves_refuse_bad_input_and_warn_outside_range():
     with pytest.raises(InputError, match="T"):
         S.sublimation_pressure("CO2", 250.0)          # above the triple point

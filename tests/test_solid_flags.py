@@ -82,6 +82,8 @@ def test_cli_state_co2_minus_70_degC_10_bar_says_solid_region():
     phase_line = next(line for line in r.stdout.splitlines() if line.strip().startswith("phase"))
     assert "solid region" in phase_line and "liquid" in phase_line  # "... the cubic alone says liquid"
     assert any(line.startswith("WARNING: carbon dioxide") and "203.15 K" in line for line in r.stdout.splitlines())
+    explain = _cli("explain", "--fluid", "carbon dioxide", "--T", "-70 degC", "--P", "10 bar")
+    assert explain.returncode == 0 and "WARNING: carbon dioxide" in explain.stdout
     warm = _cli("state", "--fluid", "carbon dioxide", "--T", "-40 degC", "--P", "10 bar")
     assert warm.returncode == 0 and "solid region" not in warm.stdout and "WARNING" not in warm.stdout
 

@@ -62,7 +62,7 @@ from __future__ import annotations
 import csv
 import math
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import lru_cache
 from typing import Callable
 
@@ -406,9 +406,11 @@ def ice_melting_pressure(T, ice: str):
 # --------------------------------------------------------------------------
 # the screening check
 # --------------------------------------------------------------------------
-@dataclass
 class SolidRisk:
     """Where a state (or each row of a batch) may hold a solid.
+
+    ``flag`` is computed at once (array comparisons); the text is built on
+    first access, for the flagged rows only, so large batches stay fast.
 
     Attributes
     ----------
@@ -421,9 +423,23 @@ class SolidRisk:
         A short phase label per row: "solid region (...)" where flagged, "" elsewhere.
     """
 
-    flag: object
-    reasons: list = field(default_factory=list)
-    label: object = ""
+    def __init__(self, flag, text):
+        self.flag = flag
+        self._text = text  # () -> (reasons, label)
+        self._built = None
+
+    def _build(self):
+        if self._built is None:
+            self._built = self._text()
+        return self._built
+
+    @property
+    def reasons(self) -> list:
+        return self._build()[0]
+
+    @property
+    def label(self):
+        return self._build()[1]
 
     @property
     def any(self) -> bool:
@@ -437,6 +453,9 @@ class SolidRisk:
         """The reasons as text (a batch's rows are named by their index)."""
         scalar = np.ndim(self.flag) == 0
         return [m if scalar else f"row {idx[0] if len(idx) == 1 else idx}: {m}" for idx, m in self.reasons]
+
+    def __repr__(self):
+        return f"SolidRisk(any={self.any}, {len(self.reasons)} reason(s))"
 
 
 def _C(T):
@@ -496,16 +515,16 @@ def _pure_reason(name, T, P, code, pb, extra):
     at = f"{name} at {_C(T)}, {P:.6g} Pa"
     if code == 2:
         return (f"{at}: below its triple-point temperature {tp.T:.6g} K ({tp.source}); a solid may form "
-                "(no sublimation curve bundled)", "solid region (below the triple point)")
+                "(no sublimation curve bundled)", "below the triple point")
     if code == 3:
         eq = _WATER_MELTING_EQ if name == "water" else MELTING[name].equation
         return (f"{at}: above the melting pressure {pb:.6g} Pa ({eq}): solid region",
-                "solid region (above the melting curve)")
+                "above the melting curve")
     eq = SUBLIMATION[name].equation
     ext = " (curve extrapolated below its range)" if extra else ""
     what = "between the sublimation and the ice-Ih melting curves: ice" if code == 4 else "solid region"
     return (f"{at}: below its triple-point temperature {tp.T:.6g} K and above the sublimation pressure "
-            f"{pb:.6g} Pa ({eq}){ext}: {what}", "solid region (below the triple point, above the sublimation curve)")
+            f"{pb:.6g} Pa ({eq}){ext}: {what}", "below the triple point, above the sublimation curve")
 
 
 def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
@@ -540,16 +559,16 @@ def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
     T, P = np.broadcast_arrays(np.asarray(T, dtype=float), np.asarray(P, dtype=float))
     shape = T.shape
     flag = np.zeros(shape, dtype=bool)
-    label = np.full(shape, "", dtype=object)
-    reasons = []
+    hits = []  # (component, hit mask, text builder for one row)
     if len(names) == 1:
-        f_, code, pb, extra = _pure_solid(names[0], T, P)
+        name = names[0]
+        f_, code, pb, extra = _pure_solid(name, T, P)
         flag |= f_
-        for idx in zip(*np.nonzero(f_)) if shape else ([()] if bool(f_) else []):
-            text, short = _pure_reason(names[0], float(T[idx]), float(P[idx]), int(code[idx]), float(pb[idx]),
-                                       bool(extra[idx]))
-            reasons.append((idx, text))
-            label[idx] = short
+
+        def text(idx, name=name, code=code, pb=pb, extra=extra):
+            return _pure_reason(name, float(T[idx]), float(P[idx]), int(code[idx]), float(pb[idx]), bool(extra[idx]))
+
+        hits.append((f_, text))
     else:
         if fugacity is None:
             raise InputError("fugacity", None, "the components' fugacities [Pa] for a mixture")
@@ -567,24 +586,36 @@ def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
             ps = sub(np.where(below, T, tp.T), warn=False) if sub is not None else np.zeros(shape)
             hit = below & (fi > ps)
             flag |= hit
-            for idx in zip(*np.nonzero(hit)) if shape else ([()] if bool(hit) else []):
-                Ti, fv = float(T[idx]), float(fi[idx])
-                if sub is not None:
-                    ext = " (curve extrapolated below its range)" if Ti < sub.T_min else ""
-                    text = (f"{name} freeze-out risk at {_C(Ti)}, {float(P[idx]):.6g} Pa: below its triple-point "
-                            f"temperature {tp.T:.6g} K, its fugacity {fv:.4g} Pa is above its sublimation "
-                            f"pressure {float(ps[idx]):.4g} Pa ({sub.equation}){ext} - screening check, "
-                            "not a solid-fluid equilibrium calculation")
-                else:
-                    text = (f"{name} freeze-out risk at {_C(Ti)}: below its triple-point temperature "
-                            f"{tp.T:.6g} K ({tp.source}; no sublimation curve bundled) - screening check")
-                reasons.append((idx, text))
-                label[idx] = (label[idx] + ", " if label[idx] else "") + f"{name} may freeze out"
-        label = np.where(flag, np.array([f"solid region ({s})" if s else "" for s in label.ravel()],
-                                        dtype=object).reshape(shape), label)
-    if not shape:
-        return SolidRisk(flag=bool(flag), reasons=reasons, label=str(label[()]))
-    return SolidRisk(flag=flag, reasons=reasons, label=label)
+
+            def text(idx, name=name, tp=tp, sub=sub, fi=fi, ps=ps):
+                return _freeze_reason(name, tp, sub, float(T[idx]), float(P[idx]), float(fi[idx]), float(ps[idx]))
+
+            hits.append((hit, text))
+
+    def build():
+        label = np.full(shape, "", dtype=object)
+        reasons = []
+        for hit, text in hits:
+            for idx in (zip(*np.nonzero(hit)) if shape else ([()] if bool(hit) else [])):
+                long, short = text(idx)
+                reasons.append((idx, long))
+                label[idx] = (label[idx] + ", " if label[idx] else "") + short
+        label = np.array([f"solid region ({s})" if s else "" for s in label.ravel()], dtype=object).reshape(shape)
+        return reasons, (str(label[()]) if not shape else label)
+
+    return SolidRisk(bool(flag) if not shape else flag, build)
+
+
+def _freeze_reason(name, tp, sub, T, P, f, p_sub):
+    """(message, short label) of a mixture component's freeze-out risk at one state."""
+    if sub is not None:
+        ext = " (curve extrapolated below its range)" if T < sub.T_min else ""
+        return (f"{name} freeze-out risk at {_C(T)}, {P:.6g} Pa: below its triple-point temperature "
+                f"{tp.T:.6g} K, its fugacity {f:.4g} Pa is above its sublimation pressure {p_sub:.4g} Pa "
+                f"({sub.equation}){ext} - screening check, not a solid-fluid equilibrium calculation",
+                f"{name} may freeze out")
+    return (f"{name} freeze-out risk at {_C(T)}: below its triple-point temperature {tp.T:.6g} K "
+            f"({tp.source}; no sublimation curve bundled) - screening check", f"{name} may freeze out")
 
 
 def _mixture_fugacity(fluid, T, P, z):
@@ -632,10 +663,10 @@ def state_solid_risk(st) -> SolidRisk:
     risk = path_solid_risk(fluid, T.reshape(-1), np.broadcast_to(st._P, T.shape).reshape(-1),
                            x.reshape(-1, fluid.nc))
     if T.ndim == 0:
-        return SolidRisk(flag=bool(risk.flag[0]), reasons=[((), m) for _, m in risk.reasons],
-                         label=str(risk.label[0]))
-    reasons = [(np.unravel_index(idx[0], T.shape), m) for idx, m in risk.reasons]
-    return SolidRisk(flag=risk.flag.reshape(T.shape), reasons=reasons, label=risk.label.reshape(T.shape))
+        return SolidRisk(bool(risk.flag[0]), lambda: ([((), m) for _, m in risk.reasons], str(risk.label[0])))
+    return SolidRisk(risk.flag.reshape(T.shape),
+                     lambda: ([(np.unravel_index(idx[0], T.shape), m) for idx, m in risk.reasons],
+                              risk.label.reshape(T.shape)))
 
 
 def _register():

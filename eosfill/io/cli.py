@@ -193,6 +193,8 @@ def cmd_explain(args):
     T = parse_quantity(args.T, "temperature", "--T")
     P = parse_quantity(args.P, "pressure", "--P", ambient_pressure=amb)
     print(format_trace(trace_state(fluid, T, P)))
+    for message in fluid.state(T=T, P=P).solid_risk.messages:  # solid region screening
+        print(f"WARNING: {message}")
     return EXIT_OK
 
 
