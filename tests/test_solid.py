@@ -292,6 +292,25 @@ def test_natural_gas_co2_freeze_out_screening():
     assert st2.solid_risk.flag is False
 
 
+def test_wet_gas_below_0_degC_flags_ice():
+    # methane with 0.1 % water at 250 K, 5 MPa: the cubic drops out liquid water, whose PR vapour
+    # pressure at 250 K (69.9 Pa) is below ice's sublimation pressure (IAPWS R14-08(2011): 76.01 Pa);
+    # the solid is the stable phase below 273.16 K, so the water phase is flagged as ice
+    from eosfill.equilibrium import saturation_pressure
+    from eosfill.model.mixture import Mixture
+
+    p_sat_PR = float(saturation_pressure(np.array([250.0]), Mixture("water", model="PR").params)["P"][0])
+    p_sub = float(S.sublimation_pressure("water", 250.0))
+    assert p_sub == pytest.approx(76.0127, rel=1e-5)  # IAPWS-11 value, as chemicals 1.5.2 prints it
+    assert p_sat_PR < p_sub
+    wet = eosfill.Fluid({"methane": 0.999, "water": 0.001}, model="PR").state(T=250.0, P=5e6)
+    assert wet.phase == "two-phase" and wet.solid_risk.flag is True
+    assert "water freeze-out" in wet.solid_risk.messages[0]
+    # 10 ppm water: water fugacity about 20 Pa, below both thresholds -> no ice
+    dry = eosfill.Fluid({"methane": 0.99999, "water": 0.00001}, model="PR").state(T=250.0, P=5e6)
+    assert dry.solid_risk.flag is False
+
+
 def test_mixture_screening_needs_fugacities():
     with pytest.raises(InputError, match="fugacity"):
         S.solid_risk(["methane", "carbon dioxide"], 150.0, 5e6)

@@ -45,7 +45,12 @@ curve, T < T_t alone is flagged.
 flagged as a freeze-out risk when its fugacity in the fluid, f_i = x_i φ_i P
 (equal in the vapour and the liquid at equilibrium; y_i P for an ideal
 gas), is above its sublimation pressure p_sub,i(T), the fugacity of the pure
-solid at its sublimation pressure.  This is the usual first test for the
+solid at its sublimation pressure - or above the vapour pressure of the
+component's own subcooled liquid from the same cubic, where that is lower
+(below T_t the solid is the stable phase, so it cannot be less stable than
+the model's liquid; PR's water gives 69.9 Pa at 250 K against ice's 76.0 Pa,
+and without this cap a liquid-water phase in a cold gas would never be
+flagged).  This is the usual first test for the
 freezing of one pure solid component out of a fluid (e.g. Prausnitz,
 Lichtenthaler & de Azevedo, *Molecular Thermodynamics of Fluid-Phase
 Equilibria*, 3rd ed. 1999, ch. 10, solid-fluid equilibrium with a pure
@@ -527,7 +532,7 @@ def _pure_reason(name, T, P, code, pb, extra):
             f"{pb:.6g} Pa ({eq}){ext}: {what}", "below the triple point, above the sublimation curve")
 
 
-def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
+def solid_risk(names, T, P, fugacity=None, liquid_vapour_pressure=None) -> SolidRisk:
     """Screen states for solid formation (see the module's notes: a screening check,
     not a solid-fluid equilibrium calculation).
 
@@ -541,6 +546,15 @@ def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
         Mixtures: each component's fugacity f_i = x_i φ_i P in the fluid [Pa]
         (y_i P for an ideal gas); 0 for absent components.  Needed when there
         is more than one component.
+    liquid_vapour_pressure : array_like, shape T.shape + (nc,), optional
+        Mixtures: the vapour pressure of each component's own (subcooled)
+        liquid *from the same equation of state* at T [Pa] (NaN where unknown).
+        The solid's fugacity is then taken as min(p_sub, this): the solid is
+        the stable phase below T_t, so it cannot be less stable than the
+        model's own liquid.  Without it a cubic whose extrapolated liquid
+        vapour pressure falls below the true sublimation pressure (water in
+        PR: 69.9 Pa at 250 K against ice's 76.0 Pa) would never flag ice
+        forming from its own condensed phase.
 
     Returns
     -------
@@ -573,6 +587,8 @@ def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
         if fugacity is None:
             raise InputError("fugacity", None, "the components' fugacities [Pa] for a mixture")
         f = np.broadcast_to(np.asarray(fugacity, dtype=float), shape + (len(names),))
+        p_liq = (np.full(shape + (len(names),), np.nan) if liquid_vapour_pressure is None else
+                 np.broadcast_to(np.asarray(liquid_vapour_pressure, dtype=float), shape + (len(names),)))
         tps = load_triple_points()
         for i, name in enumerate(names):
             tp = tps.get(name)
@@ -584,6 +600,8 @@ def solid_risk(names, T, P, fugacity=None) -> SolidRisk:
                 continue
             sub = SUBLIMATION.get(name)
             ps = sub(np.where(below, T, tp.T), warn=False) if sub is not None else np.zeros(shape)
+            pl = p_liq[..., i]
+            ps = np.where(np.isfinite(pl) & (pl < ps), pl, ps)  # never above the model's own liquid
             hit = below & (fi > ps)
             flag |= hit
 
@@ -611,9 +629,10 @@ def _freeze_reason(name, tp, sub, T, P, f, p_sub):
     if sub is not None:
         ext = " (curve extrapolated below its range)" if T < sub.T_min else ""
         return (f"{name} freeze-out risk at {_C(T)}, {P:.6g} Pa: below its triple-point temperature "
-                f"{tp.T:.6g} K, its fugacity {f:.4g} Pa is above its sublimation pressure {p_sub:.4g} Pa "
-                f"({sub.equation}){ext} - screening check, not a solid-fluid equilibrium calculation",
-                f"{name} may freeze out")
+                f"{tp.T:.6g} K, its fugacity {f:.4g} Pa is above the solid's fugacity {p_sub:.4g} Pa "
+                f"(the lower of the sublimation pressure, {sub.equation}, and the model's own liquid vapour "
+                f"pressure){ext} "
+                "- screening check, not a solid-fluid equilibrium calculation", f"{name} may freeze out")
     return (f"{name} freeze-out risk at {_C(T)}: below its triple-point temperature {tp.T:.6g} K "
             f"({tp.source}; no sublimation curve bundled) - screening check", f"{name} may freeze out")
 
@@ -646,11 +665,32 @@ def path_solid_risk(fluid, T, P, z=None) -> SolidRisk:
     z = np.broadcast_to(np.asarray(fluid.mole_fractions if z is None else z, dtype=float), T.shape + (len(names),))
     tps = load_triple_points()
     Tt = np.array([tps[n].T if n in tps and tps[n].T is not None else -math.inf for n in names])
-    rows = np.flatnonzero(np.any((T[:, None] < Tt[None, :]) & (z > 0.0), axis=1))
+    cold = (T[:, None] < Tt[None, :]) & (z > 0.0)
+    rows = np.flatnonzero(np.any(cold, axis=1))
     f = np.zeros(T.shape + (len(names),))
+    p_liq = np.full(T.shape + (len(names),), np.nan)
     if rows.size:
         f[rows] = _mixture_fugacity(fluid, T[rows], P[rows], np.ascontiguousarray(z[rows]))
-    return solid_risk(names, T, P, fugacity=f)
+        for i, name in enumerate(names):
+            if np.any(cold[:, i]) and name in SUBLIMATION:
+                p_liq[cold[:, i], i] = _model_liquid_vapour_pressure(name, fluid.model.name, T[cold[:, i]])
+    return solid_risk(names, T, P, fugacity=f, liquid_vapour_pressure=p_liq)
+
+
+@lru_cache(maxsize=None)
+def _pure_parameters(name, model_name):
+    from eosfill.model.mixture import Mixture
+
+    return Mixture(name, model=model_name).params
+
+
+def _model_liquid_vapour_pressure(name, model_name, T):
+    """Vapour pressure [Pa] of the pure component's (subcooled) liquid from the same cubic at T;
+    NaN where the saturation solver does not converge (the threshold is then p_sub alone)."""
+    from eosfill.equilibrium.solvers import saturation_pressure
+
+    sat = saturation_pressure(np.asarray(T, dtype=float), _pure_parameters(name, model_name), raise_on_fail=False)
+    return np.where(np.asarray(sat["status"]) == 0, sat["P"], np.nan)
 
 
 def state_solid_risk(st) -> SolidRisk:
