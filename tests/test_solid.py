@@ -223,6 +223,22 @@ def test_pure_flag_never_clears_when_pressure_rises(fluid, T, P1, P2):
     assert bool(S.solid_risk(fluid, T, hi)) >= bool(S.solid_risk(fluid, T, lo))
 
 
+@settings(max_examples=150, deadline=None)
+@given(fluid=hs.sampled_from(sorted(r["name"] for r in _rows("fluids.csv"))),
+       T=hs.floats(1.0, 3000.0), P=hs.floats(1.0, 1e10))
+def test_every_fluid_screens_any_state_and_names_itself(fluid, T, P):
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # no warning leaks out of the screening
+        r = S.solid_risk(fluid, T, P)
+    assert isinstance(r.flag, bool)
+    assert len(r.messages) == int(r.flag)
+    if r.flag:
+        assert r.messages[0].startswith(fluid) and f"{T:.6g} K" in r.messages[0]
+        assert r.label.startswith("solid region (")
+    else:
+        assert r.label == ""
+
+
 def test_curves_refuse_bad_input_and_warn_outside_range():
     with pytest.raises(InputError, match="T"):
         S.sublimation_pressure("CO2", 250.0)          # above the triple point
