@@ -112,3 +112,4 @@ def test_report_limits_box_shows_the_solid_flag(tmp_path):
     text = html.unescape(out.read_text(encoding="utf-8"))
     limits = text[text.index("Limits"):text.index("Inputs")]
     assert "solid region" in limits and "carbon dioxide" in limits and "Span & Wagner 1996" in limits
+    assert "SOLID REGION (the cubic alone: two-phase)" in text  # the end-state table's phase row
