@@ -26,11 +26,15 @@ Data
   ============== ========================================= =======================================
 
   Equation numbers are given where they were checked against the paper
-  (CO2, water); for the others the coefficients were checked against two
+  (CO2, water); for the others the coefficients were checked against
   independent transcriptions (CoolProp 8.0.0's fluid files for the melting
-  curves; the tests compare with CoolProp's melting line), and the paper's
+  curves, pychemqt's and other public transcriptions for the sublimation
+  curves; the tests compare with CoolProp's melting line and check each
+  sublimation slope against the enthalpy of fusion), and the paper's
   equation number was not at hand.  Any other fluid has its triple point
-  only: a state below its triple-point temperature is flagged.
+  only: a state below its triple-point temperature is flagged.  Above a
+  melting curve's upper temperature nothing is screened (the melting
+  pressures there lie beyond the reference equations' own range).
 
 The screening check
 -------------------
