@@ -51,6 +51,19 @@ def test_vent_above_the_triple_point_is_not_flagged():
     assert not r.final.solid and not any("solid" in f for f in r.flags)
 
 
+def test_fill_from_a_supply_in_the_solid_region_is_flagged():
+    # CO2 supply at -70 °C, 20 bar (below 216.592 K, above p_sub = 0.198 MPa): the supply line
+    # itself may hold dry ice; a -10 °C, 40 bar liquid supply (above the triple point) is not flagged
+    from eosfill.vessel import fill
+
+    cold = fill(Vessel(0.04), Stream(CO2, 203.15, P=20e5), Stream(CO2, 288.15, P=10e5),
+                stop="target_pressure", target=15e5)
+    assert any(f.startswith("supply: carbon dioxide at 203.15 K") for f in cold.flags)
+    warm = fill(Vessel(0.04), Stream(CO2, 263.15, P=40e5), Stream(CO2, 288.15, P=10e5),
+                stop="target_pressure", target=30e5)
+    assert not any("solid" in f for f in warm.flags)
+
+
 @pytest.mark.slow
 def test_time_resolved_rows_carry_a_solid_column():
     # CO2 near saturation at -40 °C vented to 3 bar: rows below 216.592 K at pressures above

@@ -707,7 +707,7 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
              "is isenthalpic); the vessel is rigid and, apart from the heat given, adiabatic"]
     if vessel.wall_heat_capacity > 0:
         notes.append("the wall ends at the gas temperature (thermal equilibrium, lumped heat capacity)")
-    flags = []
+    flags = [f"supply: {m}" for m in st_in.solid_risk.messages]  # a solid in the supply line
 
     def solve_for(name):
         """n_f with the criterion met (V1)-(V3); brackets grow from the supply's density."""
