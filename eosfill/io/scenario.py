@@ -51,7 +51,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from eosfill.errors import InputError
-from eosfill.io.units import STANDARD_ATMOSPHERE, format_quantity, parse_quantity
+from eosfill.io.units import STANDARD_ATMOSPHERE, check_range, format_quantity, parse_quantity
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -59,6 +59,10 @@ else:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
 SCHEMA_VERSION = 1
+MAX_SCENARIO_BYTES = 10_000_000  # a scenario is a few kB; anything this big is not one
+# the most output times a time-resolved run reports: 1e6 rows is ~200 MB of JSON,
+# beyond what any reader of a fill's time series needs (common practice, no source)
+MAX_OUTPUT_POINTS = 1_000_000
 
 KINDS = ("fill", "cascade_fill", "vent", "liquefied_fill", "transient_fill", "transient_vent")
 FILL_KINDS = ("fill", "cascade_fill", "liquefied_fill", "transient_fill")
@@ -466,16 +470,10 @@ class _Context:
             raise InputError(exc.name, exc.value, exc.allowed, message=f"{self.file}: {exc}") from None
 
     def check_range(self, key_path, raw, value, kind, minimum, strict, maximum):
-        if minimum is not None and (value <= minimum if strict else value < minimum):
-            bound = "absolute zero (0 K)" if kind == "temperature" and minimum == 0.0 else \
-                format_quantity(minimum, kind) if kind != "dimensionless" else f"{minimum:g}"
-            if kind == "pressure" and minimum == 0.0:
-                bound = "0 Pa absolute (a gauge value below -1 atm, or a negative pressure?)"
-            raise self.error(key_path, raw, f"out of range: must be {'above' if strict else 'at least'} {bound} "
-                             f"(got {format_quantity(value, kind)})")
-        if maximum is not None and value > maximum:
-            raise self.error(key_path, raw, f"out of range: must be at most {format_quantity(maximum, kind)} "
-                             f"(got {format_quantity(value, kind)})")
+        try:
+            check_range(key_path, raw, value, kind, minimum, strict, maximum)
+        except InputError as exc:
+            raise InputError(exc.name, exc.value, exc.allowed, message=f"{self.file}: {exc}") from None
 
     def composition(self, raw, key_path):
         """{name: fraction} or a name -> {canonical name: mole fraction}."""
@@ -540,7 +538,19 @@ def load_scenario(path) -> Scenario:
     ctx = _Context(path)
     try:
         with open(path, "rb") as fh:
-            data = tomllib.load(fh)
+            raw = fh.read(MAX_SCENARIO_BYTES + 1)
+        if len(raw) > MAX_SCENARIO_BYTES:
+            raise InputError("scenario", str(path), "a scenario file", message=f"{path}: larger than "
+                             f"{MAX_SCENARIO_BYTES // 1_000_000} MB; not a scenario file")
+        if raw.startswith(b"\xef\xbb\xbf"):  # a UTF-8 byte-order mark, as some Windows editors write
+            raw = raw[3:]
+        data = tomllib.loads(raw.decode("utf-8"))
+    except RecursionError:
+        raise InputError("scenario", str(path), "tables nested a few levels deep",
+                         message=f"{path}: tables or arrays nested too deeply to be a scenario") from None
+    except PermissionError:
+        raise InputError("scenario", str(path), "a readable file",
+                         message=f"{path}: cannot read the scenario file (permission denied)") from None
     except FileNotFoundError:
         raise InputError("scenario", str(path), "an existing file",
                          message=f"{path}: scenario file not found") from None
@@ -940,10 +950,17 @@ def _read_transient(top, ctx, kind, vessel):
     tr.output_interval = sec.quantity("output_interval", "time", minimum=0.0)
     if tr.output_interval is not None and tr.output_interval > duration:
         raise ctx.error("transient.output_interval", sec.data["output_interval"], "longer than transient.duration")
+    if tr.output_interval is not None and duration / tr.output_interval + 1 > MAX_OUTPUT_POINTS:
+        raise ctx.error("transient.output_interval", sec.data["output_interval"],
+                        f"out of range: gives {duration / tr.output_interval + 1:.3g} output times over "
+                        f"transient.duration; at most {MAX_OUTPUT_POINTS:.0e} (a longer interval, or output_times)")
     if sec.has("output_times"):
         raw = sec.data["output_times"]
         if not isinstance(raw, list) or not raw:
             raise ctx.error("transient.output_times", raw, 'expected a list of times, e.g. [0, 30, "2 min"]')
+        if len(raw) > MAX_OUTPUT_POINTS:
+            raise ctx.error("transient.output_times", f"[{len(raw)} times]",
+                            f"out of range: at most {MAX_OUTPUT_POINTS:.0e} output times")
         times = [ctx.parse(t, "time", f"transient.output_times[{i}]", default_unit="s") for i, t in enumerate(raw)]
         for i, t in enumerate(times):
             if t < 0.0 or t > duration:
