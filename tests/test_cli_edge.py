@@ -149,3 +149,57 @@ def test_internal_error_exit_4_please_report(monkeypatch, capsys):
     assert cli.main(["--debug", "fluids"]) == 4
     err = capsys.readouterr().err
     assert "Traceback" in err and "ZeroDivisionError" in err
+
+
+# --------------------------------------------------------------------------
+# nothing half-written; no overwrite without --force; [output] stays beside the scenario
+# --------------------------------------------------------------------------
+def test_a_failing_output_leaves_nothing_behind(tmp_path):
+    sc = tmp_path / "ok.toml"
+    sc.write_text(FILL)
+    r = run("run", str(sc), "--csv", "k.csv", "--json", "k.json", "--report", "/sys/r.html", cwd=tmp_path)
+    one_line_error(r, 2, "/sys/r.html", "nothing was written")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["ok.toml"]  # no k.csv, k.json, no temporary file
+
+
+def test_existing_file_needs_force_and_scenario_is_never_overwritten(tmp_path):
+    sc = tmp_path / "ok.toml"
+    sc.write_text(FILL)
+    out = tmp_path / "r.json"
+    out.write_text("keep me")
+    r = run("run", str(sc), "--json", str(out))
+    one_line_error(r, 2, "exists", "--force")
+    assert out.read_text() == "keep me"
+    r = run("run", str(sc), "--json", str(sc), "--force")
+    one_line_error(r, 2, "scenario file")
+    assert sc.read_text() == FILL
+    r = run("run", str(sc), "--json", str(out), "--force")
+    assert r.returncode == 0, r.stderr
+    assert out.read_text().startswith("{")
+
+
+@pytest.mark.parametrize("path", ["../elsewhere.json", "/tmp/elsewhere.json", "sub/../../x.json"])
+def test_output_paths_stay_in_the_scenario_folder(tmp_path, path):
+    from eosfill import InputError
+    from eosfill.io.scenario import load_scenario
+
+    folder = tmp_path / "sent"
+    folder.mkdir()
+    (folder / "sub").mkdir()
+    sc = folder / "fill.toml"
+    sc.write_text(FILL + f'[output]\njson = "{path}"\n')
+    with pytest.raises(InputError, match="output.json.*outside the scenario's folder"):
+        load_scenario(sc)
+    assert load_scenario(sc, allow_output_outside=True).output.json.name.endswith(".json")
+
+
+def test_output_paths_relative_to_the_scenario_file(tmp_path):
+    from eosfill.io.scenario import load_scenario
+
+    sc = tmp_path / "fill.toml"
+    sc.write_text(FILL + '[output]\njson = "r.json"\nreport = "r.html"\n')
+    out = load_scenario(sc).output
+    assert out.json == (tmp_path / "r.json").resolve() and out.report == (tmp_path / "r.html").resolve()
+    sc.write_text(FILL + '[output]\njson = "fill.toml"\n')
+    with pytest.raises(Exception, match="scenario file itself"):
+        load_scenario(sc)

@@ -311,17 +311,14 @@ def cmd_run(args):
 
     from eosfill.io.scenario import load_scenario
 
-    scenario = load_scenario(args.scenario)
+    scenario = load_scenario(args.scenario, allow_output_outside=args.allow_output_outside)
     for key in ("json", "csv", "report"):
         raw = getattr(args, key)
-        if raw is None:
-            continue
-        p = Path(raw)
-        if not p.parent.resolve().is_dir():
-            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: the folder {p.parent} does not exist")
-        if p.is_dir():
-            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: is a folder; give a file name")
-        setattr(scenario.output, key, p)
+        if raw is not None:
+            setattr(scenario.output, key, Path(raw))
+    from eosfill.io.files import check_outputs
+
+    check_outputs(scenario, force=args.force)  # before anything is computed
     _require_report_tools(scenario)
     for line in scenario.summary():
         print(line)
@@ -329,7 +326,7 @@ def cmd_run(args):
 
     bar, progress = _progress_bar(scenario)
     try:
-        result = jobs.run_scenario(scenario, progress=progress)
+        result = jobs.run_scenario(scenario, progress=progress, force=args.force)
     finally:
         if bar is not None:
             bar.close()
@@ -359,6 +356,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--csv", metavar="FILE", help="write the time series or table as CSV")
     p.add_argument("--report", metavar="FILE", help="write an HTML report (self-contained, plots embedded) and "
                    "its Markdown twin FILE.md beside it, with the plots as PNG files; needs matplotlib")
+    p.add_argument("--force", action="store_true", help="overwrite output files that exist (never the "
+                   "scenario file)")
+    p.add_argument("--allow-output-outside", action="store_true", help="let the scenario's [output] paths "
+                   "leave the scenario file's folder")
     p.set_defaults(func=cmd_run)
 
     p = sub.add_parser("state", help="properties of a fluid at two given properties")

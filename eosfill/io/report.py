@@ -692,31 +692,31 @@ def balance_trace(scenario, result):
     return trace_fill(scenario.fluid(), result, v.wall_heat_capacity, v.wall_temperature)
 
 
-def write_report(scenario, result, path, trace=True):
-    """Write ``path`` (HTML, self-contained) and its Markdown twin (same name, ``.md``).
-
-    The Markdown's plots are written beside it as ``<stem>.<plot>.png``.
-    Returns the list of files written.
-    """
+def render_report(scenario, result, path, trace=True) -> dict:
+    """{path: bytes} of the HTML report at ``path``, its Markdown twin (same
+    name, ``.md``) and the Markdown's plots (``<stem>.<plot>.png``); nothing written."""
+    from eosfill.io.files import report_companions
     from eosfill.io.plots import require_matplotlib
 
     require_matplotlib()
     path = Path(path)
     lines = balance_trace(scenario, result) if trace else None
     rep = build_report(scenario, result, trace_lines=lines)
-    html_text = rep.to_html()
-    md_path = path.with_suffix(".md")
-    if md_path == path:
-        md_path = path.with_name(path.name + ".md")
-    files = {}
+    names = {fig.name: f"{path.stem}.{fig.name}.png" for fig in rep.figures}
+    files = {path: rep.to_html().encode("utf-8"),
+             report_companions(path): rep.to_markdown(names).encode("utf-8")}
     for fig in rep.figures:
-        files[fig.name] = f"{path.stem}.{fig.name}.png"
-    md_text = rep.to_markdown(files)
-    written = []
-    for fig in rep.figures:
-        p = path.parent / files[fig.name]
-        p.write_bytes(fig.png)
-        written.append(p)
-    path.write_text(html_text, encoding="utf-8")
-    md_path.write_text(md_text, encoding="utf-8")
-    return [path, md_path, *written]
+        files[path.parent / names[fig.name]] = fig.png
+    return files
+
+
+def write_report(scenario, result, path, trace=True, force=True):
+    """Write ``path`` (HTML, self-contained) and its Markdown twin (same name, ``.md``).
+
+    The Markdown's plots are written beside it as ``<stem>.<plot>.png``; all
+    files or none (:func:`eosfill.io.files.commit`).  Returns the list of files written.
+    """
+    from eosfill.io.files import commit
+
+    return commit(render_report(scenario, result, path, trace), force=force,
+                  scenario_path=getattr(scenario, "path", None))

@@ -457,6 +457,7 @@ class _Context:
         self.ambient_pressure = STANDARD_ATMOSPHERE
         self.normalise = False
         self.mass_basis = False
+        self.allow_output_outside = False
 
     def error(self, key_path, value, why, allowed=""):
         shown = "" if value is None else f" = {value!r}"
@@ -517,12 +518,15 @@ _TOP = ("schema_version", "kind", "title", "description", "fluid", "vessel", "in
         "banks", "cascade", "stop", "ambient", "limits", "output", "transient")
 
 
-def load_scenario(path) -> Scenario:
+def load_scenario(path, allow_output_outside=False) -> Scenario:
     """Read and check a TOML scenario file.
 
     Parameters
     ----------
     path : str or Path
+    allow_output_outside : bool
+        Let ``[output]`` paths leave the scenario file's folder (refused by
+        default: running a file someone sent must not overwrite files elsewhere).
 
     Returns
     -------
@@ -536,6 +540,7 @@ def load_scenario(path) -> Scenario:
     """
     path = Path(path)
     ctx = _Context(path)
+    ctx.allow_output_outside = bool(allow_output_outside)
     try:
         with open(path, "rb") as fh:
             raw = fh.read(MAX_SCENARIO_BYTES + 1)
@@ -864,7 +869,7 @@ def _read_output(top, ctx) -> Output:
     if sec is None:
         return out
     sec.only(("json", "csv", "report", "units", "digits"))
-    base = ctx.path.parent if ctx.file != "<scenario>" else Path.cwd()
+    base = (ctx.path.parent if ctx.file != "<scenario>" else Path.cwd()).resolve()
     for k, ext in (("json", ".json"), ("csv", ".csv"), ("report", ".html")):
         raw = sec.string(k)
         if raw is None:
@@ -872,7 +877,14 @@ def _read_output(top, ctx) -> Output:
         if not raw.strip():
             raise ctx.error(f"output.{k}", raw, "an empty file name")
         p = Path(raw)
-        p = p if p.is_absolute() else base / p
+        p = (p if p.is_absolute() else base / p).resolve()
+        # a scenario someone sent you must not write anywhere else than beside itself
+        if not ctx.allow_output_outside and not p.is_relative_to(base):
+            raise ctx.error(f"output.{k}", raw, f"outside the scenario's folder {base}; a scenario writes only "
+                            "beside itself (eosfill run --allow-output-outside allows it, or give "
+                            f"--{k} on the command line)")
+        if ctx.path is not None and ctx.file != "<scenario>" and p == ctx.path.resolve():
+            raise ctx.error(f"output.{k}", raw, "is the scenario file itself")
         if not p.parent.is_dir():
             raise ctx.error(f"output.{k}", raw, f"the folder {p.parent} does not exist")
         if p.is_dir():

@@ -39,7 +39,6 @@ local codes, the vessel's approval documents and licensed practice govern.
 """
 from __future__ import annotations
 
-import json
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -229,20 +228,6 @@ class TransientResult:
         cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
                 "Q_wall", "phase", "vapour_fraction", "bank")
         return pd.DataFrame({c: getattr(self, c) for c in cols})
-
-    def write(self, json_path=None, csv_path=None):
-        """Write the result as JSON and/or the time series as CSV (SI)."""
-        if json_path is not None:
-            with open(json_path, "w") as fh:
-                json.dump(self.to_dict(), fh, indent=1, default=float)
-        if csv_path is not None:
-            cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                    "Q_wall", "vapour_fraction", "bank", "phase")
-            with open(csv_path, "w") as fh:
-                fh.write(",".join(f"{c}" for c in cols) + "\n")
-                for i in range(self.t.size):
-                    fh.write(",".join(repr(float(getattr(self, c)[i])) if c != "phase" else str(self.phase[i])
-                                      for c in cols) + "\n")
 
 
 # --------------------------------------------------------------------------
