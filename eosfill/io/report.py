@@ -185,6 +185,13 @@ class _Fmt:
         out = scenario.output
         self.digits = int(out.digits) if out is not None else 6
         self.si = out is not None and out.units == "SI"
+        self.scenario = scenario
+
+    def p(self, value, key):
+        """A pressure input as the file gave it: gauge when given as gauge (``barg``)."""
+        if value is None:
+            return "—"
+        return self.scenario.pressure_text(value, key, self.digits, self.si)
 
     def q(self, value, kind):
         from eosfill.io.units import format_quantity
@@ -245,6 +252,8 @@ def _stop_words(scenario, fmt):
         if val is not None:
             if kind == "density":
                 parts.append(words.format(f"{fmt.n(val / 1e3)} kg/L"))
+            elif kind == "pressure":
+                parts.append(words.format(fmt.p(val, f"stop.{key}")))
             else:
                 parts.append(words.format(fmt.q(val, kind)))
     if s.supply_pressure:
@@ -252,13 +261,37 @@ def _stop_words(scenario, fmt):
     if s.temperature_limit is not None:
         word = "falls to" if scenario.kind in ("vent", "transient_vent") else "rises to"
         parts.append(f"the gas temperature {word} {fmt.q(s.temperature_limit, 'temperature')}")
-    if not parts and scenario.transient is not None:
-        parts.append(f"{fmt.q(scenario.transient.duration, 'time')} have passed")
     return " or ".join(parts)
 
 
-def job_paragraph(scenario, fmt=None):
-    """The job stated in one paragraph of plain words."""
+def _restriction_words(r, fmt):
+    """What sets the flow, in words with its figures ("through an orifice of 12 mm bore ...")."""
+    if r.type == "orifice":
+        return f"through an orifice of {fmt.q(r.diameter, 'length')} bore (discharge coefficient {fmt.n(r.discharge_coefficient)})"
+    if r.type == "valve":
+        cv = f"Kv {fmt.n(r.Kv)} m³/h" if r.Kv is not None else f"Cv {fmt.n(r.Cv)} US gal/min"
+        return f"through a valve ({cv}, xT {fmt.n(r.xT)})"
+    if r.type == "mass_flow":
+        return f"at a set mass flow of {fmt.q(r.mass_flow, 'mass_flow')}"
+    return f"at a set pressure ramp of {fmt.q(r.rate, 'pressure_rate')}"
+
+
+def _outcome_words(scenario, result, fmt):
+    """What happened, from the result: when and why the run stopped."""
+    if result is None:
+        return ""
+    if hasattr(result, "t"):
+        t_end = float(result.t[-1])
+        why = result.stop_reason or "the end of the simulated time"
+        if not result.complete:
+            return f" The integration failed at {fmt.q(t_end, 'time')} ({why}); the results below are partial."
+        return f" It stopped at {fmt.q(t_end, 'time')}: {why}."
+    met = "" if result.stop_met else " (the stop criterion asked for was not met)"
+    return f" It stopped on its {result.stop.replace('_', ' ')}{met}."
+
+
+def job_paragraph(scenario, fmt=None, result=None):
+    """The job stated in one paragraph of plain words (with what happened, given the result)."""
     fmt = fmt or _Fmt(scenario)
     sc = scenario
     v = sc.vessel
@@ -272,33 +305,38 @@ def job_paragraph(scenario, fmt=None):
         holds = "is empty (evacuated)"
     else:
         comp = _comp_text(ini.composition or fs.composition)
-        amount = fmt.q(ini.pressure, "pressure") if ini.pressure is not None else fmt.q(ini.mass, "mass")
+        amount = fmt.p(ini.pressure, "initial.pressure") if ini.pressure is not None else fmt.q(ini.mass, "mass")
         holds = f"holds {comp} at {fmt.q(ini.temperature, 'temperature')} and {amount}"
     kind = sc.kind
     time_resolved = kind.startswith("transient")
     if kind in ("vent", "transient_vent"):
         what = "is vented"
         if sc.transient is not None:
-            what += (f" through a {sc.transient.restriction.type.replace('_', ' ')} to "
-                     f"{fmt.q(sc.transient.back_pressure or sc.ambient.pressure, 'pressure')}")
+            what += (f" {_restriction_words(sc.transient.restriction, fmt)} to "
+                     + (fmt.p(sc.transient.back_pressure, "transient.back_pressure")
+                        if sc.transient.back_pressure is not None else fmt.q(sc.ambient.pressure, "pressure")))
     elif sc.supply is not None:
         what = (f"is filled from a supply of {_comp_text(sc.supply.composition or fs.composition)} at "
-                f"{fmt.q(sc.supply.temperature, 'temperature')} and {fmt.q(sc.supply.pressure, 'pressure')}")
+                f"{fmt.q(sc.supply.temperature, 'temperature')} and {fmt.p(sc.supply.pressure, 'supply.pressure')}")
         if kind == "liquefied_fill":
             what += " (a liquefied gas: the content may be two-phase)"
     else:
-        banks = "; ".join(f"{b.name or i + 1}: {fmt.q(b.volume, 'volume')} at {fmt.q(b.pressure, 'pressure')}, "
+        banks = "; ".join(f"{b.name or i + 1}: {fmt.q(b.volume, 'volume')} at "
+                          f"{fmt.p(b.pressure, f'banks[{i}].pressure')}, "
                           f"{fmt.q(b.temperature, 'temperature')}" for i, b in enumerate(sc.banks))
         what = (f"is filled from {len(sc.banks)} storage bank{'s' if len(sc.banks) > 1 else ''} used in turn "
                 f"({banks}), switching when a bank leads the vessel by "
                 f"{fmt.q(sc.cascade.switch_pressure_difference, 'pressure')}")
     if time_resolved and kind == "transient_fill" and sc.transient is not None:
-        what += f" through a {sc.transient.restriction.type.replace('_', ' ')}"
+        what += f" {_restriction_words(sc.transient.restriction, fmt)}"
     model = {"PR": "Peng–Robinson (1976)", "PR78": "Peng–Robinson (1978 κ)", "SRK": "Soave–Redlich–Kwong (1972)"}
     how = ("followed in time" if time_resolved else "computed as an end state from the mass and energy balances "
            "(no time involved)")
-    return (f"{vessel[0].upper() + vessel[1:]} {holds}. It {what}, until {_stop_words(sc, fmt)}. "
-            f"The run is {how}, with the {model.get(fs.model, fs.model)} equation of state"
+    until = _stop_words(sc, fmt)
+    if not until and sc.transient is not None:
+        until = f"at most {fmt.q(sc.transient.duration, 'time')} have passed"
+    return (f"{vessel[0].upper() + vessel[1:]} {holds}. It {what}, until {until}."
+            f"{_outcome_words(sc, result, fmt)} The run is {how}, with the {model.get(fs.model, fs.model)} equation of state"
             + (f" (title: {sc.title})." if sc.title else "."))
 
 
@@ -318,9 +356,11 @@ _INPUT_KINDS = {
 }
 
 
-def _input_value(fmt, key, value):
+def _input_value(fmt, key, value, path=None):
     if value is None:
         return None
+    if path is not None and path in fmt.scenario.gauge_keys:
+        return fmt.p(value, path)
     if key in ("composition",) and isinstance(value, dict):
         return _comp_text(value) + (" (mole fractions)" if len(value) > 1 else "")
     kind = _INPUT_KINDS.get(key)
@@ -352,9 +392,10 @@ def input_rows(scenario, fmt=None):
     for k in fs.kij:
         rows.append((f"fluid.kij[{k.pair[0]}, {k.pair[1]}]", fmt.n(k.kij)))
 
-    def section(name, obj, skip=()):
+    def section(name, obj, skip=(), file_name=None):
         if obj is None:
             return
+        file_name = file_name or name
         for f in fields(obj):
             if f.name in skip or f.name.startswith("_"):
                 continue
@@ -363,7 +404,7 @@ def input_rows(scenario, fmt=None):
                 continue
             if isinstance(val, (list, tuple)) and not val:
                 continue
-            shown = _input_value(fmt, f.name, val)
+            shown = _input_value(fmt, f.name, val, f"{file_name}.{f.name}")
             if shown is not None:
                 rows.append((f"{name}.{f.name}", shown))
 
@@ -371,7 +412,7 @@ def input_rows(scenario, fmt=None):
     section("initial", sc.initial)
     section("supply", sc.supply)
     for i, b in enumerate(sc.banks):
-        section(f"banks[{i + 1}]", b)
+        section(f"banks[{i + 1}]", b, file_name=f"banks[{i}]")
     if sc.kind == "cascade_fill" or sc.banks:
         section("cascade", sc.cascade)
     section("stop", sc.stop, skip=("settled_temperature",) if sc.kind in ("vent", "transient_vent") else ())
@@ -641,9 +682,11 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     fmt = _Fmt(scenario)
     title = scenario.title or (scenario.path.stem if scenario.path else "eosfill result")
     rep = Report(title)
-    rep.caution(CAUTION_TITLE, [CAUTION_TEXT, "Flags below mark limits passed; they do not stop a real fill."])
+    word = "vent" if scenario.kind in ("vent", "transient_vent") else "fill"
+    rep.caution(CAUTION_TITLE, [CAUTION_TEXT, f"Limits below are checked on the computed figures; passing one "
+                                f"does not stop the calculation, nor a real {word}."])
     rep.heading("The job")
-    rep.para(job_paragraph(scenario, fmt))
+    rep.para(job_paragraph(scenario, fmt, result))
     if scenario.description:
         rep.para(scenario.description)
     limit_blocks(rep, scenario, result, fmt)

@@ -51,7 +51,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from eosfill.errors import InputError
-from eosfill.io.units import STANDARD_ATMOSPHERE, check_range, format_quantity, parse_quantity
+from eosfill.io.units import STANDARD_ATMOSPHERE, check_range, format_quantity, is_gauge, parse_quantity
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -272,6 +272,7 @@ class Scenario:
     title: str = ""
     description: str = ""
     path: Path | None = None
+    gauge_keys: set = field(default_factory=set)  # key paths given as gauge pressures ("20 barg")
     _fluid: object = field(default=None, init=False, repr=False, compare=False)
 
     # ------------------------------------------------------------------
@@ -323,6 +324,18 @@ class Scenario:
         d["units"] = "SI: K, Pa, m3, kg, s, W/(m2 K), J/(kg K), kg/m3"
         return d
 
+    def pressure_text(self, value, key, digits=6, si=False) -> str:
+        """A pressure as the file gave it: gauge (``"100 barg"``) when ``key`` was
+        written as gauge, absolute otherwise (``"101.3 bar"``)."""
+        from eosfill.io.units import format_number
+
+        if value is None:
+            return "—"
+        if key in self.gauge_keys:
+            g = value - self.ambient.pressure
+            return f"{format_number(g, digits)} Pa gauge" if si else f"{format_number(g / 1e5, digits)} barg"
+        return format_quantity(value, "pressure", unit="Pa" if si else None, digits=digits)
+
     def summary(self) -> list:
         """A few lines describing the scenario in an engineer's units."""
         f = self.fluid_spec
@@ -334,16 +347,16 @@ class Scenario:
         if ini.empty:
             lines.append("initial: empty (evacuated)")
         else:
-            what = (format_quantity(ini.pressure, "pressure") if ini.pressure is not None
+            what = (self.pressure_text(ini.pressure, "initial.pressure") if ini.pressure is not None
                     else format_quantity(ini.mass, "mass"))
             lines.append(f"initial: {format_quantity(ini.temperature, 'temperature')}, {what}")
         if self.supply:
             lines.append(f"supply: {format_quantity(self.supply.temperature, 'temperature')}, "
-                         f"{format_quantity(self.supply.pressure, 'pressure')}")
+                         f"{self.pressure_text(self.supply.pressure, 'supply.pressure')}")
         for i, b in enumerate(self.banks):
             lines.append(f"bank {b.name or i + 1}: {format_quantity(b.volume, 'volume')}, "
                          f"{format_quantity(b.temperature, 'temperature')}, "
-                         f"{format_quantity(b.pressure, 'pressure')}")
+                         f"{self.pressure_text(b.pressure, f'banks[{i}].pressure')}")
         return lines
 
 
@@ -458,12 +471,15 @@ class _Context:
         self.normalise = False
         self.mass_basis = False
         self.allow_output_outside = False
+        self.gauge_keys = set()
 
     def error(self, key_path, value, why, allowed=""):
         shown = "" if value is None else f" = {value!r}"
         return InputError(key_path, value, allowed or why, message=f"{self.file}: {key_path}{shown}: {why}")
 
     def parse(self, raw, kind, key_path, default_unit=None):
+        if kind == "pressure" and is_gauge(raw):
+            self.gauge_keys.add(key_path)
         try:
             return parse_quantity(raw, kind, key_path, ambient_pressure=self.ambient_pressure,
                                   default_unit=default_unit)
@@ -618,7 +634,7 @@ def scenario_from_dict(data: dict, ctx=None) -> Scenario:
     sc = Scenario(kind=kind, fluid_spec=fluid_spec, vessel=vessel, initial=initial, stop=stop,
                   ambient=ambient, limits=limits, output=output, supply=supply, banks=banks,
                   cascade=cascade, transient=transient, title=title, description=description,
-                  path=ctx.path if ctx.file != "<scenario>" else None)
+                  path=ctx.path if ctx.file != "<scenario>" else None, gauge_keys=set(ctx.gauge_keys))
     try:
         sc.fluid()  # checks kij pairs, the model and the data
     except InputError as exc:

@@ -1001,5 +1001,6 @@ def _flags(res, limits):
                          f"{L['max_pressure'] / 1e5:.6g} bar (max_pressure)")
     if res.liquid_appeared:
         i = int(np.argmax(np.asarray(res.vapour_fraction) < 1.0 - 1e-12))
-        flags.append(f"a liquid phase appears at {res.t[i]:.4g} s")
+        flags.append("the content holds a liquid from the start (two-phase)" if i == 0
+                     else f"a liquid phase appears at {res.t[i]:.4g} s")
     return flags

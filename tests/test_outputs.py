@@ -1,0 +1,131 @@
+"""Honest outputs: strict JSON (RFC 8259) checked against the shipped JSON
+Schema (with the `jsonschema` package), CSV headers with units in one
+convention, absent columns left out, gauge inputs echoed as gauge.
+
+Plumbing checks against the open standards (RFC 8259 JSON, JSON Schema
+2020-12); the physics behind the numbers is checked in test_vessel.py and
+test_transient.py.
+"""
+import json
+import re
+import textwrap
+
+import pytest
+
+jsonschema = pytest.importorskip("jsonschema")
+
+from eosfill.io import jobs, tables  # noqa: E402
+from eosfill.io.scenario import load_scenario  # noqa: E402
+
+VENT = textwrap.dedent("""
+    kind = "transient_vent"
+    [fluid]
+    composition = "nitrogen"
+    [vessel]
+    volume = "50 L"
+    working_pressure = "100 barg"
+    [initial]
+    temperature = "15 degC"
+    pressure = "100 barg"
+    [stop]
+    target_pressure = "50 barg"
+    [transient]
+    duration = "10 min"
+    output_interval = "20 s"
+    [transient.restriction]
+    type = "orifice"
+    diameter = "2 mm"
+    discharge_coefficient = 0.8
+    [limits]
+    min_gas_temperature = "-100 degC"
+""")
+
+FILL = textwrap.dedent("""
+    kind = "fill"
+    [fluid]
+    composition = "nitrogen"
+    [vessel]
+    volume = "50 L"
+    [initial]
+    temperature = "15 degC"
+    pressure = "10 barg"
+    [supply]
+    temperature = "15 degC"
+    pressure = "200 bar"
+    [stop]
+    target_pressure = "150 bar"
+    [limits]
+    max_gas_temperature = "150 degC"
+""")
+
+HEADER = re.compile(r"^[A-Za-z_]+ \[[^\]]+\]$")  # name [unit]
+
+
+def _strict_load(text):
+    def refuse(token):
+        raise ValueError(f"not RFC 8259 JSON: {token}")
+
+    return json.loads(text, parse_constant=refuse)
+
+
+def _run(tmp_path, text, name):
+    sc_path = tmp_path / f"{name}.toml"
+    sc_path.write_text(text)
+    sc = load_scenario(sc_path)
+    sc.output.json, sc.output.csv = tmp_path / f"{name}.json", tmp_path / f"{name}.csv"
+    res = jobs.run_scenario(sc)
+    return sc, res, _strict_load(sc.output.json.read_text()), sc.output.csv.read_text().splitlines()
+
+
+def test_adiabatic_vent_json_is_strict_and_valid(tmp_path):
+    sc, res, doc, csv_lines = _run(tmp_path, VENT, "vent")
+    jsonschema.validate(doc, tables.result_schema())
+    r = doc["result"]
+    assert all(v is None for v in r["T_wall_inner"])  # no wall: absent, null (not NaN)
+    assert r["peaks"]["min_T_wall_inner"] == [None, None]
+    assert doc["complete"] is True and "licensed practice" in doc["caution"]
+    header = csv_lines[0].split(",")
+    assert header[:3] == ["t [s]", "P [bar]", "T_gas [°C]"]
+    assert not any(h.startswith(("T_wall", "Q_wall", "bank", "mdot_in")) for h in header)
+    assert all(HEADER.match(h) for h in header if h != "phase")
+    assert "nan" not in "\n".join(csv_lines).lower()
+    assert len(csv_lines) - 1 == res.t.size
+
+
+def test_end_state_json_valid_and_csv_same_convention(tmp_path):
+    sc, res, doc, csv_lines = _run(tmp_path, FILL, "fill")
+    jsonschema.validate(doc, tables.result_schema())
+    assert doc["result"]["final"]["P"] == pytest.approx(150e5, rel=1e-9)
+    header = csv_lines[0].split(",")
+    assert header == ["vessel_mass [kg]", "T [°C]", "P [bar]"]
+    last = [float(x) for x in csv_lines[-1].split(",")]
+    assert last[2] == pytest.approx(150.0, rel=1e-5)  # six significant digits
+    assert all(len(x.replace("-", "").replace(".", "").lstrip("0")) <= 6 for x in csv_lines[-1].split(","))
+
+
+def test_schema_refuses_nan_and_missing_keys(tmp_path):
+    """The schema has teeth: a document with a NaN-ish string or without its result fails."""
+    sc, res, doc, _ = _run(tmp_path, FILL, "fill2")
+    bad = json.loads(json.dumps(doc))
+    bad["result"]["final"]["T"] = "NaN"
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate(bad, tables.result_schema())
+    del doc["result"]
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate(doc, tables.result_schema())
+    with pytest.raises(ValueError):
+        tables.json.dumps({"x": float("nan")}, allow_nan=False)
+
+
+def test_gauge_inputs_echoed_as_gauge(tmp_path):
+    from eosfill.io.report import input_rows, job_paragraph
+
+    p = tmp_path / "g.toml"
+    p.write_text(VENT)
+    sc = load_scenario(p)
+    assert sc.initial.pressure == pytest.approx(100e5 + 101325.0)  # stored absolute (gauge + 1 atm)
+    assert "100 barg" in "\n".join(sc.summary())
+    rows = dict(input_rows(sc))
+    assert rows["initial.pressure"] == "100 barg" and rows["stop.target_pressure"] == "50 barg"
+    assert rows["vessel.working_pressure"] == "100 barg"
+    assert "100 barg" in job_paragraph(sc) and "an orifice" in job_paragraph(sc)
