@@ -305,36 +305,93 @@ def plot_path(scenario, result):
     return _png(fig), cap
 
 
+# limit lines: each its own colour and style, labelled on the plot itself
+_LIMIT_STYLES = {
+    "max_pressure": ("#b00020", "--", "max pressure"),
+    "max_gas_temperature": ("#b00020", "--", "max gas"),
+    "min_gas_temperature": ("#1565c0", "--", "min gas"),
+    "max_wall_temperature": ("#e65100", "-.", "max wall"),
+    "min_wall_temperature": ("#6a1b9a", "-.", "min wall"),
+}
+
+
+def _limit_line(ax, key, value, text, also=()):
+    """A horizontal limit line with its name and value written on it (not only in a
+    legend); ``also``: other limits at the same value, named in the same label."""
+    color, style, words = _LIMIT_STYLES[key]
+    ax.axhline(value, color=color, ls=style, lw=1.2)
+    names = " and ".join([words] + [_LIMIT_STYLES[k][2] for k in also])
+    ax.annotate(f"{names} limit{'s' if also else ''} {text}", xy=(0.005, value), xycoords=("axes fraction", "data"),
+                xytext=(2, 2), textcoords="offset points", fontsize=7.5, color=color, va="bottom")
+
+
+def _series(r, name):
+    """(t, values) of a series: the integrator's dense solution when the run kept it."""
+    d = getattr(r, "dense", None) or {}
+    if name in d and "t" in d and len(d["t"]) >= len(r.t):
+        t = np.asarray(d["t"], dtype=float)
+        return t, np.asarray(d[name], dtype=float)
+    return np.asarray(r.t, dtype=float), np.asarray(getattr(r, name), dtype=float)
+
+
+def _pad_to(ax, values):
+    """Keep every limit line inside the axes (a limit far from the data widens them a little)."""
+    lo, hi = ax.get_ylim()
+    vals = [v for v in values if v is not None and np.isfinite(v)]
+    if vals:
+        lo, hi = min(lo, min(vals)), max(hi, max(vals))
+        pad = 0.06 * (hi - lo or 1.0)
+        ax.set_ylim(lo - pad, hi + pad)
+
+
 def plot_time_series(scenario, result):
-    """Three figures of a time-resolved run: pressure, temperatures, mass against time."""
+    """Three figures of a time-resolved run: pressure, temperatures, mass against time,
+    drawn from the integrator's dense solution (every step), with the located extrema."""
     r = result
-    t = np.asarray(r.t, dtype=float)
     lim = scenario.limits
     out = []
     fig = _figure(8.0, 3.4)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, np.asarray(r.P) / 1e5, color="#1f5fa0", lw=1.8, label="vessel pressure")
+    t, P = _series(r, "P")
+    ax.plot(t, P / 1e5, color="#1f5fa0", lw=1.8, label="vessel pressure")
     if lim.max_pressure is not None:
-        ax.axhline(lim.max_pressure / 1e5, color="#b00020", ls="--", lw=1, label="max_pressure limit")
+        _limit_line(ax, "max_pressure", lim.max_pressure / 1e5, f"{lim.max_pressure / 1e5:.4g} bar")
+        _pad_to(ax, [lim.max_pressure / 1e5])
     _finish(ax, "time  [s]", "pressure  [bar]")
     out.append(("pressure", _png(fig), "Vessel pressure against time."))
-    fig = _figure(8.0, 3.4)
+    fig = _figure(8.0, 3.6)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, _C(r.T_gas), color="#c0392b", lw=1.8, label="gas")
+    t, Tg = _series(r, "T_gas")
+    ax.plot(t, _C(Tg), color="#c0392b", lw=1.8, label="gas")
     if np.isfinite(np.asarray(r.T_wall_inner, dtype=float)).any():
-        ax.plot(t, _C(r.T_wall_inner), color="#555", lw=1.5, label="wall, inner surface")
+        tw, Twi = _series(r, "T_wall_inner")
+        ax.plot(tw, _C(Twi), color="#555", lw=1.5, label="wall, inner surface")
         if not np.allclose(r.T_wall_inner, r.T_wall_outer, equal_nan=True):
-            ax.plot(t, _C(r.T_wall_outer), color="#999", lw=1.2, ls=":", label="wall, outer surface")
-    for key, style in (("max_gas_temperature", "--"), ("min_gas_temperature", "--"),
-                       ("max_wall_temperature", "-."), ("min_wall_temperature", "-.")):
+            tw, Two = _series(r, "T_wall_outer")
+            ax.plot(tw, _C(Two), color="#999", lw=1.2, ls=":", label="wall, outer surface")
+    for which, marker in (("max", "^"), ("min", "v")):
+        val, when = r.peak("T_gas", which)
+        if np.isfinite(val):
+            ax.plot([when], [val - 273.15], marker, color="#c0392b", ms=6,
+                    label=f"gas {which}imum {val - 273.15:.2f} °C at {when:.4g} s" if which == "min"
+                    or r.kind == "fill" else None)
+    shown = {}
+    for key in ("max_gas_temperature", "min_gas_temperature", "max_wall_temperature", "min_wall_temperature"):
         v = getattr(lim, key)
         if v is not None:
-            ax.axhline(v - 273.15, color="#b00020", ls=style, lw=1, label=f"{key} limit")
+            shown.setdefault(round(v, 6), []).append(key)
+    for v, keys in shown.items():  # limits at one value share one line and one label
+        _limit_line(ax, keys[0], v - 273.15, f"{v - 273.15:.4g} °C", also=keys[1:])
+    shown = [v - 273.15 for v in shown]
+    _pad_to(ax, shown)
     _finish(ax, "time  [s]", "temperature  [°C]")
-    out.append(("temperature", _png(fig), "Gas and wall temperatures against time, with the limits checked (red)."))
+    out.append(("temperature", _png(fig), "Gas and wall temperatures against time (the integrator's solution at "
+                "every step), the located extremum of the gas temperature, and the limits checked, each labelled "
+                "on its line."))
     fig = _figure(8.0, 3.4)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, np.asarray(r.mass, dtype=float), color="#2e7d32", lw=1.8, label="mass in the vessel")
+    t, mass = _series(r, "mass")
+    ax.plot(t, mass, color="#2e7d32", lw=1.8, label="mass in the vessel")
     _finish(ax, "time  [s]", "mass  [kg]")
     out.append(("mass", _png(fig), "Mass of gas in the vessel against time."))
     return out

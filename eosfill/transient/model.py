@@ -162,10 +162,19 @@ class TransientResult:
     flags: list = field(default_factory=list)
     description: list = field(default_factory=list)
     n_rhs: int = 0
+    # the solution at every step of the integrator (its own points, denser than
+    # the output grid where the state changes fast): t, P, T_gas, T_wall_inner, T_wall_outer
+    dense: dict = field(default_factory=dict)
+    # {"max_T_gas": (value, t), ...}: extrema located on the integrator's dense output
+    extrema: dict = field(default_factory=dict)
 
     # peaks
     def peak(self, name, which="max"):
-        """(value, time) of the largest (or smallest) value of a series."""
+        """(value, time) of the largest (or smallest) value of a series, located on
+        the integrator's dense output (not the output grid) when the run kept it."""
+        located = self.extrema.get(f"{which}_{name}")
+        if located is not None:
+            return located
         arr = np.asarray(getattr(self, name), dtype=float)
         if arr.size == 0 or np.all(np.isnan(arr)):
             return float("nan"), float("nan")
@@ -905,10 +914,73 @@ class _Run:
         res.mass_in, res.mass_out = float(ys[-1, a]), float(ys[-1, a + 1])
         res.heat_from_ambient = float(ys[-1, a + 5])
         res.mass_closure, res.energy_closure = _closure(m, ys, rows, self.y0)
+        res.dense, res.extrema = self._dense_extrema()
         res.flags = _flags(res, limits)
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res
+
+
+    def _at(self, seg, tt):
+        """The evaluated state at time ``tt`` on one segment's dense output."""
+        m = self.m
+        t0, t1, dense, act = seg
+        keep = m.active
+        if m.nb:
+            m.active = act
+        try:
+            return m.evaluate(tt, dense(min(max(tt, t0), t1)))
+        finally:
+            m.active = keep
+
+    def _dense_extrema(self):
+        """The solution at every integrator step, and the extrema of P, T_gas and
+        the wall temperatures located on the dense output: the largest or smallest
+        step value, refined by a bounded scalar search (Brent) over the steps on
+        either side of it."""
+        from scipy.optimize import minimize_scalar
+
+        series = {"P": "P", "T_gas": "T", "T_wall_inner": "Tw_in", "T_wall_outer": "Tw_out"}
+        if not self.segments:
+            return {}, {}
+        m = self.m
+        keep = m.active
+        if m.nb:
+            m.active = 0
+        first = m.evaluate(0.0, self.y0)
+        m.active = keep
+        rows = [first] + [self._at(seg, seg[1]) for seg in self.segments]
+        t = np.array([0.0] + [seg[1] for seg in self.segments])
+        dense = {"t": t}
+        for name, key in series.items():
+            dense[name] = np.array([float(r[key]) for r in rows])
+        Mw = m.fluid.molar_masses
+        dense["mass"] = np.array([float(self.y0[:m.nc] @ Mw)] +
+                                 [float(seg[2](seg[1])[:m.nc] @ Mw) for seg in self.segments])
+        extrema = {}
+        for name, key in series.items():
+            vals = dense[name]
+            if not np.all(np.isfinite(vals)):
+                continue
+            for which, sign in (("max", -1.0), ("min", 1.0)):
+                i = int(np.argmin(sign * vals))
+                best = (float(vals[i]), float(t[i]))
+                for j in (i - 1, i):  # the segments ending at and starting from point i
+                    if j < 0 or j >= len(self.segments):
+                        continue
+                    seg = self.segments[j]
+                    if seg[1] <= seg[0]:
+                        continue
+                    try:
+                        opt = minimize_scalar(lambda tt: sign * float(self._at(seg, tt)[key]),
+                                              bounds=(seg[0], seg[1]), method="bounded",
+                                              options={"xatol": 1e-6 * max(seg[1], 1.0)})
+                    except (EosfillError, ValueError):
+                        continue
+                    if np.isfinite(opt.fun) and sign * opt.fun < sign * best[0]:
+                        best = (float(sign * opt.fun), float(opt.x))
+                extrema[f"{which}_{name}"] = best
+        return dense, extrema
 
 
 def _phase_label(fluid, row):
