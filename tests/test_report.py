@@ -25,7 +25,6 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
-pytestmark = pytest.mark.filterwarnings("ignore::eosfill.RangeWarning", "ignore::eosfill.LimitWarning")
 ROOT = Path(__file__).resolve().parent.parent
 DEMOS = ROOT / "data" / "scenarios"
 CAUTION = "local codes, the vessel's approval documents and licensed practice govern"
@@ -135,9 +134,20 @@ def test_limit_passed_is_shown_in_a_caution_box(tmp_path):
     assert r.returncode == 0, r.stderr
     text = (tmp_path / "r.html").read_text(encoding="utf-8")
     box = re.search(r'<div class="box limits"[^>]*>(.*?)</div>', text, re.S)
-    assert box is not None and "PASSED" in box.group(1)
+    assert box is not None and "Limit exceeded: gas temperature" in box.group(1)
     assert "max_gas_temperature" in box.group(1)
     assert "max_gas_temperature" in (tmp_path / "r.md").read_text(encoding="utf-8")
+    assert '<div class="box neutral"' not in text and "No limit reached" not in text
+
+
+def test_no_limit_reached_is_a_neutral_box(tmp_path):
+    sc = _scenario(tmp_path, PASSING_LIMIT.replace('"30 degC"', '"150 degC"'))
+    r = run("run", str(sc), "--report", str(tmp_path / "r.html"))
+    assert r.returncode == 0, r.stderr
+    text = (tmp_path / "r.html").read_text(encoding="utf-8")
+    box = re.search(r'<div class="box neutral"[^>]*>(.*?)</div>', text, re.S)
+    assert box is not None and "No limit reached" in box.group(1) and "&#9888;" not in box.group(1)
+    assert '<div class="box limits"' not in text
 
 
 def test_bad_scenario_writes_no_report(tmp_path):

@@ -330,7 +330,9 @@ def cmd_run(args):
     finally:
         if bar is not None:
             bar.close()
-    text = "" if result is None else str(result)
+    from eosfill.io.summaries import render
+
+    text = "" if result is None else render(result)
     if text:
         print(text)
     if "Caution" not in text:  # results carry their own caution; never print none

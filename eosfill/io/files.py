@@ -99,29 +99,3 @@ def _discard(staged):
             os.unlink(tmp)
         except OSError:
             pass
-
-
-def render_outputs(scenario, result, partial=False) -> dict:
-    """{path: bytes} of every output ``scenario.output`` asks for (nothing written).
-
-    ``partial``: the result of a run that stopped early; its JSON and CSV are
-    rendered (marked incomplete in the JSON), not the report."""
-    from eosfill.io import tables
-
-    out = scenario.output
-    files = {}
-    if out.json is not None:
-        files[Path(out.json)] = tables.result_json(scenario, result).encode("utf-8")
-    if out.csv is not None:
-        files[Path(out.csv)] = tables.result_csv(result, units=out.units, digits=out.digits).encode("utf-8")
-    if out.report is not None and not partial:
-        from eosfill.io.report import render_report
-
-        files.update(render_report(scenario, result, Path(out.report)))
-    return files
-
-
-def write_outputs(scenario, result, force=False, partial=False) -> list:
-    """Render and write every output of ``scenario.output``, all or nothing."""
-    files = render_outputs(scenario, result, partial=partial)
-    return commit(files, force=force, scenario_path=scenario.path) if files else []

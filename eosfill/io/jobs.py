@@ -1,7 +1,7 @@
 """Run a scenario: map a :class:`eosfill.scenario.Scenario` to the vessel
 balances of :mod:`eosfill.vessel` and write the files it asks for.
 
-``eosfill run FILE`` calls :func:`run_scenario`; it prints ``str(result)``.
+``eosfill run FILE`` calls :func:`run_scenario`; it prints ``eosfill.io.summaries.render(result)``.
 Kinds: ``fill``, ``cascade_fill``, ``liquefied_fill`` and ``vent`` here;
 ``transient_fill`` and ``transient_vent`` are handed to
 ``eosfill.io.transient_run.run_scenario``.
@@ -54,10 +54,10 @@ def run_scenario(scenario, write=True, progress=None, force=False):
             result = transient_run.run_scenario(scenario, progress=progress)
         except IntegrationError as exc:
             if write:
-                files.write_outputs(scenario, exc.partial, force=force, partial=True)
+                write_outputs(scenario, exc.partial, force=force, partial=True)
             raise
         if write:
-            files.write_outputs(scenario, result, force=force)
+            write_outputs(scenario, result, force=force)
         return result
     vessel = _vessel_of(scenario)
     initial = _initial_of(scenario)
@@ -83,18 +83,43 @@ def run_scenario(scenario, write=True, progress=None, force=False):
     else:  # pragma: no cover - the scenario reader allows no other kind
         raise InputError("kind", kind, "fill, cascade_fill, liquefied_fill, vent")
     result.title = scenario.title
+    from eosfill.io.summaries import flag_text
+
     for flag in result.flags:
-        warnings.warn(flag, LimitWarning, stacklevel=2)
+        warnings.warn(flag_text(flag), LimitWarning, stacklevel=2)
     if write:
-        files.write_outputs(scenario, result, force=force)
+        write_outputs(scenario, result, force=force)
     return result
 
 
-def write_outputs(scenario, result, force=False):
-    """Write ``scenario.output.json`` / ``.csv`` / ``.report`` if set (all or nothing)."""
-    from eosfill.io import files
+def render_outputs(scenario, result, partial=False) -> dict:
+    """{path: bytes} of every output ``scenario.output`` asks for (nothing written).
 
-    return files.write_outputs(scenario, result, force=force)
+    ``partial``: the result of a run that stopped early; its JSON and CSV are
+    rendered (marked incomplete in the JSON), not the report."""
+    from pathlib import Path
+
+    from eosfill.io import tables
+
+    out = scenario.output
+    files = {}
+    if out.json is not None:
+        files[Path(out.json)] = tables.result_json(scenario, result).encode("utf-8")
+    if out.csv is not None:
+        files[Path(out.csv)] = tables.result_csv(result, units=out.units, digits=out.digits).encode("utf-8")
+    if out.report is not None and not partial:
+        from eosfill.io.report import render_report
+
+        files.update(render_report(scenario, result, Path(out.report)))
+    return files
+
+
+def write_outputs(scenario, result, force=False, partial=False) -> list:
+    """Render and write every output of ``scenario.output``, all or nothing."""
+    from eosfill.io.files import commit
+
+    out = render_outputs(scenario, result, partial=partial)
+    return commit(out, force=force, scenario_path=scenario.path) if out else []
 
 
 def write_report(scenario, result, force=False):

@@ -153,6 +153,69 @@ def path_states(scenario, result, max_points=40):
     return dict(path=pts, joined=False, others=others, z_final=z)
 
 
+def _triple_temperature(name):
+    """The triple-point temperature [K] of a pure fluid where the data has it (else None)."""
+    try:
+        from eosfill.equilibrium.solid import triple_point
+    except ImportError:  # triple points not bundled in this version
+        return None
+    try:
+        return triple_point(name).T
+    except EosfillError:
+        return None
+
+
+# The two-phase region is computed only when the process comes near it: when its
+# lowest temperature is below this multiple of the pseudo-critical temperature
+# of the final composition (Kay's rule, Kay 1936: sum of x_i Tc_i); beyond it
+# the boundary is far off the drawing (common practice, no source).  It is then
+# drawn only if some of it falls inside the region the process lives in.
+DOME_RELEVANT_TC_MULTIPLE = 1.3
+
+
+def dome_relevant(fluid, z, T_min) -> bool:
+    """Whether the two-phase region may matter to a process whose lowest temperature is ``T_min`` [K]."""
+    z = np.asarray(z, dtype=float)
+    T_pc = float(z @ np.asarray(fluid.Tc)) / float(z.sum())  # Kay (1936)
+    return T_min < DOME_RELEVANT_TC_MULTIPLE * T_pc
+
+
+def _dome_in_view(dome, xlim, ylim, margin=0.3):
+    """True when some point of the boundary lies inside the view (widened by ``margin``)."""
+    dx, dy = margin * (xlim[1] - xlim[0]), margin * (ylim[1] - ylim[0])
+    for name, (dT, ds) in dome.items():
+        x, y = np.asarray(ds) / 1e3, _C(dT)
+        if np.any((x > xlim[0] - dx) & (x < xlim[1] + dx) & (y > ylim[0] - dy) & (y < ylim[1] + dy)):
+            return True
+    return False
+
+
+def _place_labels(fig, ax, items, fontsize=8):
+    """Annotate points without labels overlapping each other or leaving the axes:
+    each label tries a few offsets around its point and takes the first free one."""
+    renderer = fig.canvas.get_renderer()
+    placed = []
+    box = ax.get_window_extent(renderer)
+    offsets = ((6, 5, "left"), (6, -13, "left"), (-6, 5, "right"), (-6, -13, "right"), (6, 16, "left"),
+               (-6, 16, "right"), (6, -24, "left"), (-6, -24, "right"))
+    for x, y, text in items:
+        best = None
+        for dx, dy, ha in offsets:
+            a = ax.annotate(text, (x, y), textcoords="offset points", xytext=(dx, dy), fontsize=fontsize, ha=ha,
+                            bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.8))
+            bb = a.get_window_extent(renderer)
+            inside = bb.x0 >= box.x0 and bb.x1 <= box.x1 and bb.y0 >= box.y0 and bb.y1 <= box.y1
+            free = not any(bb.overlaps(o) for o in placed)
+            if inside and free:
+                best = a
+                break
+            a.remove()
+        if best is None:  # no free place: the first offset, kept inside the axes
+            best = ax.annotate(text, (x, y), textcoords="offset points", xytext=(-6, 5), fontsize=fontsize,
+                               ha="right", annotation_clip=True)
+        placed.append(best.get_window_extent(renderer))
+
+
 @functools.lru_cache(maxsize=16)
 def _dome_cached(names, z, model, kij, shift):
     """Two-phase boundary (T [K], s [J/(kg K)]) lines: pure saturation curve or bubble/dew curves."""
@@ -172,6 +235,9 @@ def _dome_cached(names, z, model, kij, shift):
         if f.nc == 1:
             Tc, Pc = f.critical_point_pure()
             T = Tc * (1.0 - np.geomspace(2e-4, 0.45, 40))[::-1]
+            Tt = _triple_temperature(names[0])
+            if Tt is not None and Tt < Tc:  # no liquid below the triple point: the curve starts there
+                T = np.unique(np.append(T[T > Tt], Tt))
             sat = equilibrium.saturation_pressure(T, f.params, raise_on_fail=False)
             P = np.asarray(sat["P"])
             ok = np.isfinite(P) & (P > 0)
@@ -233,76 +299,100 @@ def _C(T):
 
 
 def plot_path(scenario, result):
-    """T-s diagram: the content's path, the supply/bank states and the two-phase boundary."""
+    """T-s diagram of the region the process lives in: the content's path, the
+    supply/bank states and, where the process comes near it, the two-phase boundary."""
     info = path_states(scenario, result)
     pts = info["path"]
     if not pts:
         return None, info.get("note", "no path")
     fluid = scenario.fluid()
-    try:
-        dome = dome_lines(fluid, info["z_final"])
-    except EosfillError:
-        dome = {}
-    fig = _figure(9.0, 5.2)
     s = np.array([p["s"] for p in pts]) / 1e3
     T = _C([p["T"] for p in pts])
     s_all = list(s) + [o["s"] / 1e3 for o in info["others"]]
     T_all = list(T) + [float(_C(o["T"])) for o in info["others"]]
     box = (min(s_all), max(s_all), min(T_all), max(T_all))
-    dome_s = np.concatenate([v[1] for v in dome.values()]) / 1e3 if dome else np.array([])
-    dome_T = _C(np.concatenate([v[0] for v in dome.values()])) if dome else np.array([])
-    full_s = np.concatenate([s_all, dome_s]) if dome_s.size else np.array(s_all)
-    full_T = np.concatenate([T_all, dome_T]) if dome_T.size else np.array(T_all)
-    span = lambda a: (np.nanmax(a) - np.nanmin(a)) or 1.0  # noqa: E731
-    small = dome_s.size and (span(s_all) < 0.25 * span(full_s) or (box[3] - box[2]) < 0.25 * span(full_T))
-    axes = [fig.add_subplot(1, 2, 1), fig.add_subplot(1, 2, 2)] if small else [fig.add_subplot(1, 1, 1)]
-    for k, ax in enumerate(axes):
+    dome = {}
+    relevant = dome_relevant(fluid, info["z_final"], box[2] + 273.15)
+    if relevant:
+        try:
+            dome = dome_lines(fluid, info["z_final"])
+        except EosfillError:
+            dome = {}
+    fig = _figure(9.0, 5.2)
+    ax = fig.add_subplot(1, 1, 1)
+    # the region the process lives in, with a margin; the boundary is drawn inside it only
+    ds_, dT_ = (box[1] - box[0]) or 0.1, (box[3] - box[2]) or 5.0
+    xlim = [box[0] - 0.15 * ds_, box[1] + 0.15 * ds_]
+    ylim = [box[2] - 0.15 * dT_, box[3] + 0.15 * dT_]
+    if dome and not _dome_in_view(dome, xlim, ylim):
+        dome, relevant = {}, False
+    if dome:
+        crit = dome.get("critical point")
+        if crit is not None:  # show the critical point when it is close to the process
+            cs, cT = float(crit[1][0]) / 1e3, float(_C(crit[0][0]))
+            if cT - ylim[1] < 0.5 * dT_ and xlim[0] - 0.5 * ds_ < cs < xlim[1] + 0.5 * ds_:
+                xlim = [min(xlim[0], cs - 0.05 * ds_), max(xlim[1], cs + 0.05 * ds_)]
+                ylim[1] = max(ylim[1], cT + 0.05 * dT_)
         for name, (dT, ds) in dome.items():
             if name == "critical point":
                 ax.plot(ds / 1e3, _C(dT), "k*", ms=9, label=name)
             else:
                 ax.plot(ds / 1e3, _C(dT), "-", color="#1f5fa0" if "liquid" in name or "bubble" in name else "#c0392b",
                         lw=1.4, label=name)
-        ax.plot(s, T, "--" if info["joined"] else "-", color="#222", lw=2.0, marker="o", ms=3.5,
-                label="vessel content" + (" (states joined in order)" if info["joined"] else ""))
-        for p, ss, tt in zip(pts, s, T):
-            if p["label"]:
-                ax.annotate(p["label"], (ss, tt), textcoords="offset points", xytext=(5, 4), fontsize=8)
-        groups = {}
-        for o in info["others"]:
-            groups.setdefault(o["label"].replace(" start", "").replace(" end", ""), []).append(o)
-        shades = ("#1b5e20", "#43a047", "#81c784", "#00695c", "#4db6ac", "#827717")
-        for i, (label, grp) in enumerate(groups.items()):
-            gs = [o["s"] / 1e3 for o in grp]
-            gT = [float(_C(o["T"])) for o in grp]
-            # named in the legend, not on the plot: bank states crowd together
-            ax.plot(gs, gT, "s-", color=shades[i % len(shades)], ms=5, lw=1.2,
-                    label=f"{label} (start → end)" if len(grp) > 1 else label)
-        ax.set_xlabel("specific entropy s  [kJ/(kg K)]")
-        ax.set_ylabel("temperature  [°C]")
-        ax.grid(True, alpha=0.3)
-        if small and k == 1:
-            ds_, dT_ = (box[1] - box[0]) or 0.1, (box[3] - box[2]) or 5.0
-            ax.set_xlim(box[0] - 0.25 * ds_, box[1] + 0.25 * ds_)
-            ax.set_ylim(box[2] - 0.25 * dT_, box[3] + 0.25 * dT_)
-            ax.set_title("close-up of the path", fontsize=10)
-        elif small:
-            ax.set_title("with the two-phase region", fontsize=10)
-    axes[0].legend(fontsize=7, loc="best")
-    where = "of the final composition" if fluid.nc > 1 else "of the fluid"
+        if "bubble curve" in dome and "dew curve" in dome:
+            # the two curves meet at the mixture's critical point; where the envelope stopped short of it,
+            # their ends are joined by a dotted line (not computed)
+            (Tb, sb), (Td, sd) = dome["bubble curve"], dome["dew curve"]
+            if len(Tb) and len(Td):
+                ib, jd = int(np.argmax(Tb)), int(np.argmax(Td))
+                ax.plot([sb[ib] / 1e3, sd[jd] / 1e3], [_C(Tb[ib]), _C(Td[jd])], ":", color="#555", lw=1.2,
+                        label="near the critical point (not computed)")
+    ax.plot(s, T, "--" if info["joined"] else "-", color="#222", lw=2.0, marker="o", ms=3.5,
+            label="vessel content" + (" (states joined in order)" if info["joined"] else ""))
+    groups = {}
+    for o in info["others"]:
+        groups.setdefault(o["label"].replace(" start", "").replace(" end", ""), []).append(o)
+    shades = ("#1b5e20", "#43a047", "#81c784", "#00695c", "#4db6ac", "#827717")
+    for i, (label, grp) in enumerate(groups.items()):
+        gs = [o["s"] / 1e3 for o in grp]
+        gT = [float(_C(o["T"])) for o in grp]
+        # named in the legend, not on the plot: bank states crowd together
+        ax.plot(gs, gT, "s-", color=shades[i % len(shades)], ms=5, lw=1.2,
+                label=f"{label} (start → end)" if len(grp) > 1 else label)
+    ax.set_xlim(*xlim)
+    ax.set_ylim(*ylim)
+    ax.set_xlabel("specific entropy s  [kJ/(kg K)]")
+    ax.set_ylabel("temperature  [°C]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(fontsize=7, loc="center left", bbox_to_anchor=(1.01, 0.5), borderaxespad=0.0)
     fig.suptitle("Temperature–entropy diagram", fontsize=11)
-    cap = (f"Temperature–entropy diagram: the vessel content's path (black), the two-phase boundary {where} "
-           "(blue: liquid/bubble side, red: vapour/dew side)"
+    fig.tight_layout()
+    _place_labels(fig, ax, [(ss, tt, p["label"]) for p, ss, tt in zip(pts, s, T) if p["label"]])
+    where = "of the final composition" if fluid.nc > 1 else "of the fluid"
+    cap = ("Temperature–entropy diagram of the region the process lives in: the vessel content's path (black)"
            + ("; cascade: states after each bank, joined in order (the line between them is not the path); "
               "green squares: each bank's start and end states (each bank follows its own isentrope)"
               if info["joined"] else "; green: the supply state (it enters by an isenthalpic throttle)"
-              if info["others"] else "") + ".")
-    if not dome:
-        cap += " The two-phase boundary could not be computed for this composition."
-    elif fluid.nc > 1:
-        cap += (" Bubble and dew curves are drawn where their points converged, pressure by pressure; near the "
-                "critical point they may stop short of meeting.")
-    return _png(fig), cap
+              if info["others"] else ""))
+    if dome:
+        cap += (f"; the two-phase boundary {where} (blue: liquid/bubble side, red: vapour/dew side)"
+                + (", from the triple point up" if fluid.nc == 1 else "") + ".")
+        if fluid.nc > 1:
+            cap += (" Bubble and dew curves are drawn where their points converged, pressure by pressure; a dotted "
+                    "line joins their ends towards the critical point, which was not computed.")
+    elif relevant:
+        cap += ". The two-phase boundary could not be computed for this composition."
+    else:
+        cap += (". The two-phase region is not drawn: the process stays far from it (lowest temperature "
+                f"{box[2]:.4g} °C).")
+    return _png_tight(fig), cap
+
+
+def _png_tight(fig):
+    """PNG of a figure already laid out (labels placed after tight_layout)."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=100)
+    return buf.getvalue()
 
 
 # limit lines: each its own colour and style, labelled on the plot itself

@@ -103,7 +103,8 @@ class Report:
                 out.append(f"<p>{e(b.text)}</p>")
             elif b.kind == "caution":
                 items = "".join(f"<li>{e(x)}</li>" for x in b.lines)
-                out.append(f'<div class="box {b.tone}" role="note"><p class="boxtitle">&#9888; {e(b.text)}</p>'
+                mark = "&#9888; " if b.tone in ("caution", "limits") else ""  # a warning sign only where one is due
+                out.append(f'<div class="box {b.tone}" role="note"><p class="boxtitle">{mark}{e(b.text)}</p>'
                            f"<ul>{items}</ul></div>")
             elif b.kind == "table":
                 cap = f"<caption>{e(b.text)}</caption>" if b.text else ""
@@ -128,7 +129,8 @@ class Report:
             elif b.kind == "para":
                 out += [_md(b.text), ""]
             elif b.kind == "caution":
-                out.append(f"> **⚠ {_md(b.text)}**")
+                mark = "⚠ " if b.tone in ("caution", "limits") else ""
+                out.append(f"> **{mark}{_md(b.text)}**")
                 out.append(">")
                 out += [f"> * {_md(x)}" for x in b.lines]
                 out.append("")
@@ -158,7 +160,8 @@ th{background:#eee}
 tbody tr:nth-child(even){background:#fafafa}
 .box{border:3px solid #b36b00;background:#fff4e0;padding:.4em 1em;margin:1em 0;border-radius:4px}
 .box.limits{border-color:#b00020;background:#ffe9ec}
-.box.ok{border-color:#2e7d32;background:#eef7ee}
+.box.neutral{border-color:#777;background:#f4f4f4}
+.box.note{border-color:#8a6d00;background:#fffbe6}
 .boxtitle{font-weight:bold;margin:.3em 0}
 figure{margin:1em 0}
 figure img{max-width:100%;border:1px solid #ccc}
@@ -661,12 +664,20 @@ def limit_blocks(rep, scenario, result, fmt):
     for k, v in lim.items():
         kind = _INPUT_KINDS.get(k)
         checked.append(f"{k} = {_input_value(fmt, k, v) if kind else fmt.n(v)}")
-    flags = list(result.flags)
-    if flags:
-        rep.caution(f"{len(flags)} limit{'s' if len(flags) > 1 else ''} or warning{'s' if len(flags) > 1 else ''} "
-                    "PASSED", flags, tone="limits")
+    from eosfill.io.summaries import flag_text
+    from eosfill.vessel.balances import LimitPassed
+
+    passed, other = [], []
+    for f in result.flags:  # limits passed, and other flags (liquid forming, a stop not met ...)
+        (passed if isinstance(f, LimitPassed) or "the limit" in str(f) else other).append(flag_text(f))
+    if passed:
+        title = f"Limit exceeded: {passed[0]}" if len(passed) == 1 else f"{len(passed)} limits exceeded"
+        rep.caution(title, passed, tone="limits")
     else:
-        rep.caution("No limit passed", ["none of the limits checked was passed"], tone="ok")
+        rep.caution("No limit reached", ["none of the limits checked below was reached by the computed figures"],
+                    tone="neutral")
+    if other:
+        rep.caution("Also flagged", other, tone="note")
     rep.para("Limits checked: " + ("; ".join(checked) if checked else "none given") + ". The −40 °C / 85 °C gas "
              "temperature defaults are common values (from memory), not what any vessel is approved for; give "
              "the vessel's own limits.")

@@ -56,7 +56,10 @@ def result_dict(scenario, result) -> dict:
     from eosfill import __version__
     from eosfill.io.scenario import CAUTION
 
+    from eosfill.io.summaries import flag_texts
+
     res = jsonable(result.to_dict())
+    res["flags"] = flag_texts(result)  # in words; each limit passed is also in the figures above
     res.pop("caution", None)
     units = res.pop("units", "SI")
     return {"format": JSON_FORMAT, "eosfill_version": __version__, "kind": scenario.kind if scenario else

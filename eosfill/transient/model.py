@@ -193,36 +193,6 @@ class TransientResult:
     def liquid_appeared(self):
         return bool(np.any(np.asarray(self.vapour_fraction) < 1.0 - 1e-12))
 
-    def summary(self):
-        def C(T):
-            return f"{T - 273.15:.2f} °C"
-
-        lines = list(self.description)
-        status = "complete" if self.complete else "INCOMPLETE (integration stopped early)"
-        lines.append(f"time-resolved {self.kind}: {status}; stop: {self.stop_reason}")
-        lines.append(f"duration {self.t[-1]:.6g} s; pressure {self.P[0] / 1e5:.6g} -> {self.P[-1] / 1e5:.6g} bar; "
-                     f"mass {self.mass[0]:.6g} -> {self.mass[-1]:.6g} kg")
-        for name, label in (("T_gas", "gas temperature"), ("T_wall_inner", "inner wall temperature"),
-                            ("T_wall_outer", "outer wall temperature")):
-            hi, thi = self.peak(name, "max")
-            lo, tlo = self.peak(name, "min")
-            if math.isfinite(hi):
-                lines.append(f"{label}: max {C(hi)} at {thi:.4g} s, min {C(lo)} at {tlo:.4g} s, "
-                             f"end {C(float(getattr(self, name)[-1]))}")
-        Pmax, tP = self.peak("P")
-        lines.append(f"max pressure {Pmax / 1e5:.6g} bar at {tP:.4g} s")
-        lines.append(f"mass in {self.mass_in:.6g} kg, out {self.mass_out:.6g} kg; heat from ambient "
-                     f"{self.heat_from_ambient:.6g} J")
-        lines.append(f"closure (relative): mass {self.mass_closure:.2e}, energy {self.energy_closure:.2e}")
-        if self.liquid_appeared:
-            lines.append("a liquid phase appears (homogeneous equilibrium assumed)")
-        for f in self.flags:
-            lines.append(f"FLAG: {f}")
-        lines.append(CAUTION)
-        return "\n".join(lines)
-
-    __str__ = summary
-
     def to_dict(self):
         d = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in self.__dict__.items()}
         d["peaks"] = self.peaks
