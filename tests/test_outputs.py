@@ -179,3 +179,40 @@ def test_lowest_temperature_does_not_depend_on_the_output_grid(tmp_path):
         lows.append(lo)
     assert lows[0] == pytest.approx(lows[1], abs=1e-4)
     assert lows[0] < 273.15 - 41.6
+
+
+def test_two_phase_region_only_where_the_process_comes_near_it():
+    """Kay's rule pseudo-critical temperature (Kay 1936) times 1.3: hydrogen at 15 degC
+    (Tc 33.1 K, Leachman 2009) is far from its dome; liquefied CO2 at -5 degC
+    (Tc 304.1 K, Span & Wagner 1996) is inside the region where it matters."""
+    import eosfill
+    from eosfill.io.plots import dome_relevant
+
+    h2 = eosfill.Fluid("hydrogen")
+    co2 = eosfill.Fluid("carbon dioxide")
+    assert not dome_relevant(h2, h2.mole_fractions, 288.15)
+    assert dome_relevant(co2, co2.mole_fractions, 268.15)
+    ng = eosfill.Fluid({"methane": 0.95, "ethane": 0.03, "nitrogen": 0.02})
+    assert not dome_relevant(ng, ng.mole_fractions, 288.15)  # 1.3 x 192 K = 250 K
+    assert dome_relevant(ng, ng.mole_fractions, 231.3)  # a blowdown to -41.9 degC
+
+
+def test_point_labels_neither_overlap_nor_leave_the_axes():
+    pytest.importorskip("matplotlib")
+    from eosfill.io.plots import _figure, _place_labels
+
+    fig = _figure(6.0, 4.0)
+    ax = fig.add_subplot(1, 1, 1)
+    xs, ys = [1.0, 1.02, 1.04, 1.99], [1.0, 1.02, 1.04, 1.99]  # three crowded points, one at the corner
+    ax.plot(xs, ys, "o")
+    ax.set_xlim(0.9, 2.0)
+    ax.set_ylim(0.9, 2.0)
+    fig.tight_layout()
+    _place_labels(fig, ax, [(x, y, f"after bank {i}") for i, (x, y) in enumerate(zip(xs, ys))])
+    r = fig.canvas.get_renderer()
+    boxes = [t.get_window_extent(r) for t in ax.texts]
+    frame = ax.get_window_extent(r)
+    assert len(boxes) == 4
+    for i, b in enumerate(boxes):
+        assert frame.x0 <= b.x0 and b.x1 <= frame.x1 and frame.y0 <= b.y0 and b.y1 <= frame.y1
+        assert not any(b.overlaps(o) for o in boxes[:i])

@@ -199,3 +199,14 @@ def test_report_renders_in_a_browser(tmp_path):
     # the caution box's border colour (#b36b00) and the limits box's (#b00020) are on screen
     for rgb in ((0xB3, 0x6B, 0x00), (0xB0, 0x00, 0x20)):
         assert np.any(np.all(np.abs(img - np.array(rgb)) <= 2, axis=-1)), rgb
+    # laptop width: nothing drawn in the right margin (no table or figure overflows the page column)
+    from screenshot_report import print_pdf
+
+    laptop = screenshot(tmp_path / "r.html", tmp_path / "laptop.png", width=1366, height=3000)
+    img = (mpimg.imread(laptop)[..., :3] * 255).round().astype(int)
+    right = img[:, int(0.93 * img.shape[1]):]
+    assert np.all(right >= 250), "something overflows into the right margin"
+    # A4 print to PDF: pages of 595 x 842 pt (ISO 216 A4, 210 x 297 mm)
+    pdf = print_pdf(tmp_path / "r.html", tmp_path / "r.pdf").read_bytes()
+    boxes = re.findall(rb"/MediaBox\s*\[\s*0\s+0\s+([\d.]+)\s+([\d.]+)", pdf)
+    assert boxes and all(abs(float(w) - 595.3) < 2 and abs(float(h) - 841.9) < 2 for w, h in boxes)

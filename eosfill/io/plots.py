@@ -375,8 +375,9 @@ def plot_path(scenario, result):
               if info["joined"] else "; green: the supply state (it enters by an isenthalpic throttle)"
               if info["others"] else ""))
     if dome:
+        known = fluid.nc == 1 and _triple_temperature(fluid.names[0]) is not None
         cap += (f"; the two-phase boundary {where} (blue: liquid/bubble side, red: vapour/dew side)"
-                + (", from the triple point up" if fluid.nc == 1 else "") + ".")
+                + (", from the triple point up" if known else "") + ".")
         if fluid.nc > 1:
             cap += (" Bubble and dew curves are drawn where their points converged, pressure by pressure; a dotted "
                     "line joins their ends towards the critical point, which was not computed.")

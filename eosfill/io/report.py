@@ -167,6 +167,14 @@ figure{margin:1em 0}
 figure img{max-width:100%;border:1px solid #ccc}
 figcaption{font-size:.9em;color:#444}
 pre{font-size:.8em;background:#f6f6f6;padding:.6em;overflow-x:auto}
+table{min-width:24em;max-width:100%}
+td{overflow-wrap:break-word}
+@page{size:A4;margin:14mm}
+@media print{body{max-width:none;margin:0;padding:0;font-size:10pt}
+figure,table,.box,pre{break-inside:avoid}
+h2,h3,caption{break-after:avoid}
+details{display:block}
+pre{white-space:pre-wrap;font-size:7pt}}
 """
 
 
@@ -355,7 +363,7 @@ _INPUT_KINDS = {
     "max_fill_density": "density", "switch_pressure_difference": "pressure", "duration": "time",
     "output_interval": "time", "back_pressure": "pressure", "diameter": "length", "mass_flow": "mass_flow",
     "rate": "pressure_rate", "inner_coefficient": "heat_transfer_coefficient",
-    "outer_coefficient": "heat_transfer_coefficient",
+    "outer_coefficient": "heat_transfer_coefficient", "inner_radius": "length",
 }
 
 
@@ -411,9 +419,9 @@ def input_rows(scenario, fmt=None):
             if shown is not None:
                 rows.append((f"{name}.{f.name}", shown))
 
-    section("vessel", sc.vessel)
+    section("vessel", sc.vessel, skip=("wall_layers",))  # a table of its own (input_tables)
     section("initial", sc.initial)
-    section("supply", sc.supply)
+    section("supply", sc.supply, skip=("temperature_schedule",))
     for i, b in enumerate(sc.banks):
         section(f"banks[{i + 1}]", b, file_name=f"banks[{i}]")
     if sc.kind == "cascade_fill" or sc.banks:
@@ -423,9 +431,30 @@ def input_rows(scenario, fmt=None):
     section("limits", sc.limits)
     if sc.transient is not None:
         section("transient", sc.transient, skip=("restriction", "heat_transfer", "output_times"))
+        times = sc.transient.output_times
+        if times:
+            rows.append(("transient.output_times", f"{len(times)} times, {fmt.q(times[0], 'time')} to "
+                         f"{fmt.q(times[-1], 'time')}"))
         section("transient.restriction", sc.transient.restriction)
         section("transient.heat_transfer", sc.transient.heat_transfer)
     return rows
+
+
+def input_tables(rep, scenario, fmt):
+    """The inputs that are lists - a layered wall, a supply temperature schedule - as small tables with units."""
+    sc = scenario
+    layers = sc.vessel.wall_layers
+    if layers:
+        rows = [[i + 1, ly.name or "—", fmt.q(ly.thickness, "length"), f"{fmt.n(ly.conductivity)}",
+                 f"{fmt.n(ly.density)}", f"{fmt.n(ly.specific_heat)}", ly.cells] for i, ly in enumerate(layers)]
+        rep.table(["layer (inside out)", "name", "thickness", "conductivity [W/(m K)]", "density [kg/m³]",
+                   "specific heat [J/(kg K)]", "cells"], rows,
+                  f"vessel.wall_layers: layered cylindrical wall, inner radius {fmt.q(sc.vessel.inner_radius, 'length')}")
+    sched = sc.supply.temperature_schedule if sc.supply is not None else None
+    if sched:
+        rows = [[fmt.q(t, "time"), fmt.T(T)] for t, T in sched]
+        rep.table(["time", "supply temperature"], rows,
+                  "supply.temperature_schedule: linear between rows, the last value held")
 
 
 @functools.lru_cache(maxsize=1)
@@ -704,6 +733,7 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     rep.heading("Inputs")
     rep.table(["input", "value (SI inside; shown in engineering units)"], input_rows(scenario, fmt),
               "Inputs as read from the scenario, defaults included")
+    input_tables(rep, scenario, fmt)
     source_blocks(rep, scenario, fmt)
     result_blocks(rep, scenario, result, fmt)
     balance_blocks(rep, scenario, result, fmt, trace_lines)
