@@ -216,3 +216,38 @@ def test_point_labels_neither_overlap_nor_leave_the_axes():
     for i, b in enumerate(boxes):
         assert frame.x0 <= b.x0 and b.x1 <= frame.x1 and frame.y0 <= b.y0 and b.y1 <= frame.y1
         assert not any(b.overlaps(o) for o in boxes[:i])
+
+
+def test_job_text_says_what_happened(tmp_path):
+    """The report's job paragraph ends with how the run ended (from the result), and
+    a vent whose content is two-phase from the start says so, not that a liquid forms."""
+    import eosfill
+    from eosfill.io.report import job_paragraph
+    from eosfill.io.summaries import render
+
+    sc, res, _, _ = _run(tmp_path, VENT, "v")
+    text = job_paragraph(sc, result=res)
+    assert f"It stopped at {res.t[-1]:.6g} s: target pressure reached" in text
+    assert "an orifice of 2 mm bore" in text and "a orifice" not in text
+    p = tmp_path / "co2.toml"
+    p.write_text(textwrap.dedent("""
+        kind = "vent"
+        [fluid]
+        composition = "carbon dioxide"
+        [vessel]
+        volume = "50 L"
+        [initial]
+        temperature = "15 degC"
+        mass = "10 kg"
+        [stop]
+        target_mass = "6 kg"
+        [limits]
+        min_gas_temperature = "-80 degC"
+    """))
+    # 200 kg/m3 at 15 degC lies between CO2's saturated vapour and liquid densities
+    # (about 160 and 820 kg/m3, Span & Wagner 1996 tables, from memory): two-phase from the start
+    with pytest.warns(eosfill.LimitWarning) as rec:
+        r = jobs.run_scenario(load_scenario(p), write=False)
+    assert any("from the start" in str(w.message) for w in rec)
+    assert not any("forms during the vent" in str(w.message) for w in rec)
+    assert "liquid present from the start" in render(r)

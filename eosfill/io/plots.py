@@ -135,19 +135,25 @@ def path_states(scenario, result, max_points=40):
     if z0 is None:
         z0 = z_in
     M0 = float(z0 @ fluid.molar_masses)
-    m0 = float(r.mass[0])
+    # the integrator's own steps where the run kept them (denser than the output grid)
+    d = getattr(r, "dense", None) or {}
+    if "mass" in d and len(d["t"]) > r.t.size:
+        T_s, P_s, m_s = (np.asarray(d[k], dtype=float) for k in ("T_gas", "P", "mass"))
+    else:
+        T_s, P_s, m_s = (np.asarray(a, dtype=float) for a in (r.T_gas, r.P, r.mass))
+    m0 = float(m_s[0])
     n0 = m0 / M0
-    idx = np.unique(np.linspace(0, r.t.size - 1, min(max_points, r.t.size)).round().astype(int))
+    idx = np.unique(np.linspace(0, m_s.size - 1, min(max_points, m_s.size)).round().astype(int))
     z = z0
     for i in idx:
-        m = float(r.mass[i])
+        m = float(m_s[i])
         if z_in is not None:
             M_in = float(z_in @ fluid.molar_masses)
             n = n0 + (m - m0) / M_in
             z = (n0 * z0 + (n - n0) * z_in) / n
         else:
             n = m / M0
-        add(pts, z, r.T_gas[i], r.P[i], n, "initial" if i == 0 else ("final" if i == idx[-1] else ""))
+        add(pts, z, T_s[i], P_s[i], n, "initial" if i == 0 else ("final" if i == idx[-1] else ""))
     if z_in is not None and sc.supply is not None:
         add_TP(others, z_in, sc.supply.temperature, sc.supply.pressure, "supply")
     return dict(path=pts, joined=False, others=others, z_final=z)
