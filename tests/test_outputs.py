@@ -186,7 +186,7 @@ def test_two_phase_region_only_where_the_process_comes_near_it():
     (Tc 33.1 K, Leachman 2009) is far from its dome; liquefied CO2 at -5 degC
     (Tc 304.1 K, Span & Wagner 1996) is inside the region where it matters."""
     import eosfill
-    from eosfill.io.plots import dome_relevant
+    from eosfill.io.plots_path import dome_relevant
 
     h2 = eosfill.Fluid("hydrogen")
     co2 = eosfill.Fluid("carbon dioxide")
@@ -199,7 +199,8 @@ def test_two_phase_region_only_where_the_process_comes_near_it():
 
 def test_point_labels_neither_overlap_nor_leave_the_axes():
     pytest.importorskip("matplotlib")
-    from eosfill.io.plots import _figure, _place_labels
+    from eosfill.io.plots import _figure
+    from eosfill.io.plots_path import _place_labels
 
     fig = _figure(6.0, 4.0)
     ax = fig.add_subplot(1, 1, 1)

@@ -220,7 +220,8 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     result_blocks(rep, scenario, result, fmt)
     balance_blocks(rep, scenario, result, fmt, trace_lines)
     if plots:
-        from eosfill.io.plots import plot_cascade, plot_path, plot_time_series
+        from eosfill.io.plots import plot_cascade, plot_time_series
+        from eosfill.io.plots_path import plot_path
 
         rep.heading("Plots")
         if not isinstance(result, Result):
