@@ -24,7 +24,6 @@ from eosfill import __version__
 from eosfill.errors import EosfillError, InputError
 
 EXIT_OK, EXIT_INPUT, EXIT_SOLVER, EXIT_INTERNAL = 0, 2, 3, 4
-ISSUES = "https://github.com/eosfill/eosfill/issues"
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models; local codes, the "
            "vessel's approval documents and licensed practice govern.")
@@ -441,8 +440,8 @@ def main(argv=None) -> int:
     except Exception as exc:  # noqa: BLE001 - the top-level guard: never a bare traceback
         _debug_traceback(debug)
         print(f"eosfill: internal error ({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''}); "
-              f"this is a bug, please report it at {ISSUES} with the command, the scenario file and the "
-              "output of the same command with --debug", file=sys.stderr)
+              "this is a bug, please report it to the eosfill developers with the command, the scenario "
+              "file and the output of the same command with --debug", file=sys.stderr)
         return EXIT_INTERNAL
     finally:
         warnings.showwarning = old
