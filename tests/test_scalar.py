@@ -18,6 +18,9 @@ from eosfill.states import common as states
 NATGAS = {"methane": 0.85, "ethane": 0.07, "propane": 0.04, "nitrogen": 0.02, "carbon dioxide": 0.02}
 
 
+# T from 30 K reaches below some Cp° fits on purpose (held-constant extension); the
+# RangeWarning itself is asserted in test_warnings.py
+@pytest.mark.filterwarnings("ignore::eosfill.errors.RangeWarning")
 @settings(max_examples=60, deadline=None)
 @given(model=st.sampled_from(["PR", "PR78", "SRK"]), mix=st.booleans(),
        T=st.floats(30.0, 1500.0), vr=st.floats(1.2, 1e4), shift=st.booleans())
