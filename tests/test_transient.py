@@ -344,7 +344,7 @@ def test_inner_coefficient_gets_the_gas_cp_and_expansion():
                        restriction=flow.MassFlow(0.01), supply=transient.Reservoir(87.5e6, 288.15),
                        wall=heat.LumpedWall(40.0, 480.0, 0.8), inner_coefficient=coefficient,
                        duration=60.0, target_pressure=50e6, n_output=5)
-    s = seen[-1]
+    s = max(seen, key=lambda st: float(st["rho"]))  # the densest state the coefficient saw
     T, rho = float(s["T_gas"]), float(s["rho"])
     assert rho > 20.0   # a dense state, where β differs from 1/T
     assert s["cp_mass"] == pytest.approx(CP.PropsSI("Cpmass", "T", T, "Dmass", rho, "Hydrogen"), rel=0.02)
@@ -411,6 +411,7 @@ def test_run_whose_states_do_not_close_is_refused(monkeypatch):
     assert "refused" in str(e.value) and e.value.last_iterate["mass_closure"] > 1e-5
 
 
+@pytest.mark.filterwarnings("ignore:a liquid phase appears:eosfill.errors.LimitWarning")  # the CO2 vent condenses; status is what is tested
 def test_time_resolved_result_keeps_the_worst_solver_status(monkeypatch):
     """Consistency (issue 10): a time-resolved result keeps the worst status of the states
     it used; a CO2 vent into its two-phase region, with the (u, v) solver reporting
@@ -432,7 +433,9 @@ def test_time_resolved_result_keeps_the_worst_solver_status(monkeypatch):
 
     monkeypatch.setattr(Fluid, "state", flagged)
     r = transient.simulate(co2, 0.01, **kw)
-    assert r.status == NOT_CONVERGED and "not converged" in r.summary()
+    from eosfill.io.summaries import render
+
+    assert r.status == NOT_CONVERGED and "not converged" in render(r)
 
 
 def test_vent_runs_past_a_two_phase_throat():

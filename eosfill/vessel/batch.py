@@ -107,6 +107,18 @@ def fill_to_amount(fluid, z, V, T_in, P_in, target_mass, T_settle, T0=None, P0=N
         except Exception:  # noqa: BLE001 - fill() names the input; let the single runs say it
             ok[by_m] = False
     m0 = n0 * M
+    # the initial content as the closure recomputes it: (T0, P) of its reported state
+    U0_r, m0_r = np.zeros(n_cases), np.zeros(n_cases)
+    has0 = by_P | by_m
+    if has0.any():
+        with np.errstate(invalid="ignore", divide="ignore"):
+            try:
+                st0r = _states(fluid, z, T=T0[has0], P=P_start[has0])
+                n0r = V[has0] / np.asarray(st0r.v, dtype=float).reshape(-1)
+                U0_r[has0] = n0r * np.asarray(st0r.u, dtype=float).reshape(-1)
+                m0_r[has0] = n0r * M
+            except Exception:  # noqa: BLE001 - the single runs name the input
+                ok[has0] = False
     ok &= P_start < P_in
     ok &= m_target > m0
     # (V1): the amount at the end, and the composition
@@ -138,13 +150,17 @@ def fill_to_amount(fluid, z, V, T_in, P_in, target_mass, T_settle, T0=None, P0=N
         Mf = float(zf @ fluid.molar_masses)
         n = n_f[rows]
         mass = n * Mf
-        lhs = n * u - U0[rows] + 0.0 * (T - np.nan_to_num(T0[rows], nan=0.0))
-        rhs = N[rows] * h_in[rows] + 0.0
         good = (P <= P_in[rows] * (1.0 + 1e-12)) & (phase != "two-phase")
         out["T"][rows], out["P"][rows], out["n"][rows], out["mass"][rows] = T, P, n, mass
         out["phase"][rows], out["vapor_fraction"][rows] = phase, beta
-        out["energy_closure"][rows] = (lhs - rhs) / (np.maximum(n, 1e-300) * R * T)
-        out["mass_closure"][rows] = (mass - (m0[rows] + N[rows] * M)) / mass
+        # closures (V1), (V2) as fill() forms them: the reported end and initial states and
+        # the supply recomputed by separate evaluations (balances._fill_closure), not the solved states
+        st_r = _states(fluid, zf, T=T, P=P)
+        n_r = V[rows] / np.asarray(st_r.v, dtype=float).reshape(-1)
+        U_r = n_r * np.asarray(st_r.u, dtype=float).reshape(-1)
+        e_cl = (U_r - U0_r[rows] + 0.0 - N[rows] * h_in[rows] - 0.0) / (np.maximum(n, 1e-300) * R * T)
+        out["energy_closure"][rows] = np.where(np.isfinite(e_cl), e_cl, np.nan)
+        out["mass_closure"][rows] = (n_r * Mf - m0_r[rows] - N[rows] * M) / (n_r * Mf)
         out["P_settled"][rows] = np.asarray(st_s.P, dtype=float).reshape(-1)
         out["phase_settled"][rows] = np.asarray(st_s.phase, dtype=object).reshape(-1)
         nom = np.isfinite(P_nom[rows])
@@ -220,7 +236,6 @@ def vent_isentropic(fluid, z, V, T0, target_pressure=None, target_mass=None, P0=
                 arr[by_m] = np.asarray(getattr(st0, key), dtype=float).reshape(-1)
         except Exception:  # noqa: BLE001 - the single path names the input
             ok[by_m] = False
-    U0 = n0 * u0
     by_target_P = np.isfinite(P_end)
     ok &= np.where(by_target_P, P_end < P_start, m_end < n0 * M)
     ok &= np.isfinite(n0) & np.isfinite(s0)
@@ -264,6 +279,13 @@ def vent_isentropic(fluid, z, V, T0, target_pressure=None, target_mass=None, P0=
     st_p = _states(fluid, z, s=np.repeat(s0[rows], k_path), v=np.repeat(V[rows], k_path) / np.concatenate(paths))
     T_path = np.asarray(st_p.T, dtype=float).reshape(rows.size, k_path)
     ph_path = np.asarray(st_p.phase, dtype=object).reshape(rows.size, k_path)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        st_fr = _states(fluid, z, T=T_f[rows], P=P_f[rows])
+        st_0r = _states(fluid, z, T=T0[rows], P=P_start[rows])
+    nf_r = V[rows] / np.asarray(st_fr.v, dtype=float).reshape(-1)
+    Uf_r = nf_r * np.asarray(st_fr.u, dtype=float).reshape(-1)
+    n0_r = V[rows] / np.asarray(st_0r.v, dtype=float).reshape(-1)
+    U0_r = n0_r * np.asarray(st_0r.u, dtype=float).reshape(-1)
     for j, i in enumerate(rows):
         if np.any(ph[j] == "two-phase") or phase_f[i] == "two-phase":
             ok[i] = False  # the integral is split at the dew point: the single path
@@ -272,9 +294,10 @@ def vent_isentropic(fluid, z, V, T0, target_pressure=None, target_mass=None, P0=
         mass = n_f[i] * M
         out["T"][i], out["P"][i], out["n"][i], out["mass"][i] = T_f[i], P_f[i], n_f[i], mass
         out["phase"][i], out["vapor_fraction"][i] = phase_f[i], beta_f[i]
-        out["energy_closure"][i] = ((n_f[i] * u_f[i] + 0.0 * T_f[i] - U0[i] - 0.0 * T0[i] + E_out)
+        # closures (V4)/(V5), (V1) as vent() forms them: the reported states recomputed
+        out["energy_closure"][i] = ((Uf_r[j] + 0.0 * T_f[i] - U0_r[j] - 0.0 * T0[i] + E_out)
                                     / (max(n_f[i], 1e-300) * R * T_f[i]))
-        out["mass_closure"][i] = (mass - n_f[i] * M) / mass
+        out["mass_closure"][i] = (nf_r[j] * M - (n0_r[j] * M - (n0[i] - n_f[i]) * M)) / (nf_r[j] * M)
         out["T_min"][i] = min([float(t) for t in T_path[j]] + [float(T_f[i])])
         out["liquid"][i] = bool(np.isin(ph_path[j], ("two-phase", "liquid")).any())
     out["m0"] = n0 * M
