@@ -37,18 +37,28 @@ density weighs like 1 K in fill end temperature, 1 % in vapour pressure and
   carbon dioxide) on 14 temperatures over 0.49-0.96 Tc above the triple point.
 
 Hydrogen and helium are supercritical at every fill state (Tc = 33 K and
-5 K): their cryogenic saturation curves are *not* fitted, and their rows hold
-only from 200 K up (the table's ``valid_T_min_K``).  Air is CoolProp's
+5.2 K): their cryogenic saturation curves are *not* fitted, and their rows hold
+only from 200 K up (the table's ``valid_T_min_K``; for the other fluids it is the
+lowest fitted saturation temperature, the single-phase states being fitted over
+200-400 K only).  Air is CoolProp's
 pseudo-pure "Air" (Lemmon, Jacobsen, Penoncello & Friend, J. Phys. Chem. Ref.
 Data 29 (2000) 331-385), a single-fluid equation for the N2/Ar/O2 mixture; it
 has bubble and dew lines rather than one vapour pressure, so no saturation
 curve is fitted for it.
 
 States outside the target region (T < 230 K or > 360 K, P > 90 MPa; fill
-supplies outside -40...15 °C or ending above 87.5 MPa) weigh half.  The fit
+supplies outside -40...15 °C or ending above 87.5 MPa) weigh a quarter;
+near-critical density residuals are weighed by min(1, (∂ ln P/∂ ln ρ)_T) of the
+reference (a 1 % density error there is a far smaller pressure error, and no
+cubic does better); the saturated liquid above 0.91 Tc is not fitted.  Ethane,
+propane and CO2, filled as liquids, have their gas-region weight lowered (0.1,
+0.2, 0.1: see ``FLUIDS``) so that the saturation curve leads; ``--tradeoff W ...``
+refits with other gas-region weights and prints the held-out figures.  The fit
 is two-stage (scipy.optimize.least_squares): the sum of squares first, then
 the sum of the 8th powers of the same scaled residuals (close to minimising
 the worst one, which is what a target limits), from several starting points;
+of these candidates the one with the smaller worst weighted residual on the
+fitted states is kept (the held-out states play no part in the choice);
 M ≤ 1 (dα/dT < 0 with L, M, N > 0) and a sufficient convexity condition keep
 α consistent (Le Guennec, Privat & Jaubert, Fluid Phase Equilib. 427 (2016)
 513-538).
@@ -68,6 +78,7 @@ Usage (from the repository root, with CoolProp installed):
     python data/tools/fit_alpha_translation.py                 # fit and print
     python data/tools/fit_alpha_translation.py --fluids nitrogen methane
     python data/tools/fit_alpha_translation.py --write data/fluids/pr_twu_fitted.csv
+    python data/tools/fit_alpha_translation.py --fluids propane --tradeoff 1 0.2 0.05
 
 Tested with CoolProp 8.0.0.
 """
