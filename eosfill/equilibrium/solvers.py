@@ -159,18 +159,15 @@ def _rachford_rice_one(z, K, tol, maxiter):
 # fugacity coefficients with a chosen root
 # --------------------------------------------------------------------------
 def lnphi_root(T, P, x, p, which="stable"):
-    """ln φ_i (..., nc), Z and the volume solution at T, P, composition x.
+    """ln φ_i (..., nc) at T, P, composition x with the root ``which``, and
+    ``{"Z": Z}`` (the root taken).
 
-    One state (shape (1,) / (1, nc)) goes through the plain-float kernel
-    :func:`eosfill.scalar.lnphi_one` (the second item is then ``{"Z": Z}``)."""
-    if isinstance(which, str) and np.size(T) == 1 and np.ndim(x) == 2 and np.shape(x)[0] == 1:
-        from eosfill.model.scalar import lnphi_one
+    Computed by the compiled kernel :func:`eosfill.model.properties.ln_phi_TP_one`
+    (one state or a batch: the same code)."""
+    from eosfill.model import properties as kp
 
-        lp, Z = lnphi_one(float(np.ravel(T)[0]), float(np.ravel(P)[0]), np.ravel(x).tolist(), p, which)
-        return np.array([lp]), {"Z": np.array([Z])}
-    sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
-    lnphi = cubic.ln_phi(T, P, sol["Z"], x, p, a=sol["a"], b=sol["b"])
-    return lnphi, sol
+    lnphi, Z = kp.ln_phi_TP(p.kernel_model, T, P, x, which)
+    return lnphi, {"Z": Z}
 
 
 # --------------------------------------------------------------------------
