@@ -192,3 +192,25 @@ def test_lnphi_one_matches_vectorised(model, T, logP, w, which):
     ref = cubic.ln_phi(np.array([T]), np.array([P]), sol["Z"], x[None, :], g.params)
     assert float(sol1["Z"][0]) == pytest.approx(float(sol["Z"][0]), rel=1e-11)
     np.testing.assert_allclose(lp[0], ref[0], rtol=1e-9, atol=1e-10)
+
+
+def test_unwritable_numba_cache_folder_falls_back_with_a_warning(tmp_path):
+    """numba refuses cache=True when no cache folder is writable; the model layer
+    then points it at a per-user temporary folder and says so (common practice, no source)."""
+    import os
+    import subprocess
+    import sys
+
+    code = ("import warnings, os\n"
+            "with warnings.catch_warnings(record=True) as w:\n"
+            "    warnings.simplefilter('always')\n"
+            "    import eosfill.model\n"
+            "print(os.environ['NUMBA_CACHE_DIR']); print(any('numba cache' in str(x.message) for x in w))\n"
+            "import sys; print('numba' in sys.modules)\n")
+    blocker = tmp_path / "a-file"
+    blocker.write_text("")
+    bad = str(blocker / "cache")   # under a file: no folder can be made there
+    env = dict(os.environ, NUMBA_CACHE_DIR=bad)
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True).stdout.split()
+    assert out[0] != bad and os.path.isdir(out[0])
+    assert out[1] == "True" and out[2] == "False"   # warned; numba not imported by the check

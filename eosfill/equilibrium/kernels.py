@@ -192,38 +192,26 @@ def stability_one(T, P, z, m, Pc, omega, lnW, use_start, tol, maxiter, lnK0, wor
         for i in range(nc):
             if not z[i] > 0.0:
                 lnW[t, i] = -np.inf
-    active0 = True
-    active1 = True
-    tm0 = 0.0
-    tm1 = 0.0
-    triv0 = False
-    triv1 = False
+    active = np.ones(2, dtype=np.bool_)
+    tms = np.zeros(2)
+    trivial = np.zeros(2, dtype=np.bool_)
     for _ in range(maxiter):
-        if not (active0 or active1):
+        if not (active[0] or active[1]):
             break
         found = False
-        if active0:
-            diff, tm0, wz = _trial_step(T, P, z, d, lnW[0], m, q, dq, d2q, sx, w, lnphi)
-            triv0 = wz < 1e-8
-            neg_clear = tm0 < -1e-8 and diff < 1e-4
-            if diff < tol or triv0 or neg_clear:
-                active0 = False
-            found = found or neg_clear
-        if active1:
-            diff, tm1, wz = _trial_step(T, P, z, d, lnW[1], m, q, dq, d2q, sx, w, lnphi)
-            triv1 = wz < 1e-8
-            neg_clear = tm1 < -1e-8 and diff < 1e-4
-            if diff < tol or triv1 or neg_clear:
-                active1 = False
-            found = found or neg_clear
+        for t in range(2):
+            if active[t]:
+                diff, tms[t], wz = _trial_step(T, P, z, d, lnW[t], m, q, dq, d2q, sx, w, lnphi)
+                trivial[t] = wz < 1e-8
+                neg_clear = tms[t] < -1e-8 and diff < 1e-4
+                if diff < tol or trivial[t] or neg_clear:
+                    active[t] = False
+                found = found or neg_clear
         if found:
-            active0 = False
-            active1 = False
-    status = NOT_CONVERGED if (active0 or active1) else CONVERGED
-    if triv0:
-        tm0 = 0.0
-    if triv1:
-        tm1 = 0.0
+            active[:] = False
+    status = NOT_CONVERGED if (active[0] or active[1]) else CONVERGED
+    tm0 = 0.0 if trivial[0] else tms[0]
+    tm1 = 0.0 if trivial[1] else tms[1]
     use_v = tm0 <= tm1
     t = 0 if use_v else 1
     Wsum = 0.0
