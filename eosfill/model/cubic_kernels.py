@@ -74,9 +74,10 @@ def sqrt_a_components(T, m, q, dq, d2q):
     for i in range(Tc.shape[0]):
         al, dal, d2al = alpha_T(kind, T, Tc[i], ap[i, 0], ap[i, 1], ap[i, 2])
         s = math.sqrt(al)
+        inv_s = 1.0 / s                                   # one division per component
         q[i] = sac[i] * s
-        dq[i] = sac[i] * dal / (2.0 * s)
-        d2q[i] = sac[i] * (d2al / (2.0 * s) - dal * dal / (4.0 * al * s))
+        dq[i] = 0.5 * sac[i] * dal * inv_s                # α'/(2√α)
+        d2q[i] = sac[i] * inv_s * (0.5 * d2al - 0.25 * dal * dal * inv_s * inv_s)   # α''/(2√α) - α'²/(4α^(3/2))
 
 
 @njit(**KERNEL)

@@ -41,28 +41,29 @@ def int_cp0_R(T, a, Tref):
 
 
 @njit(**KERNEL)
-def int_cp0_R_over_T(T, a, Tref):
-    """∫_{Tref}^{T} Cp°/(R T) dT (I3) [-] of one component, Horner form."""
+def int_cp0_R_over_T(T, a, Tref, ln_T_Tref):
+    """∫_{Tref}^{T} Cp°/(R T) dT (I3) [-] of one component, Horner form;
+    ``ln_T_Tref`` = ln(T/Tref) is passed in (one logarithm per mixture state)."""
     def F(t):
         return t * (a[1] + t * (a[2] / 2.0 + t * (a[3] / 3.0 + t * a[4] / 4.0)))
-    return a[0] * math.log(T / Tref) + F(T) - F(Tref)
+    return a[0] * ln_T_Tref + F(T) - F(Tref)
 
 
 @njit(**KERNEL)
-def component_ideal(T, a, Tmin, Tmax):
-    """(I1)-(I3) of one component at T with Cp° held constant outside [Tmin, Tmax].
+def component_ideal(T, ln_T_T0, a, Tmin, Tmax):
+    """(I1)-(I3) of one component at T (ln_T_T0 = ln(T/T0)) with Cp° held
+    constant outside [Tmin, Tmax].
 
     Returns
     -------
     cp0/R [-], H°/R [K] (from T0 = 298.15 K), ∫_{T0}^{T} Cp°/(R T) dT [-]
     """
+    if Tmin <= T <= Tmax:
+        return cp0_R(T, a), int_cp0_R(T, a, T0), int_cp0_R_over_T(T, a, T0, ln_T_T0)
     Tcl = min(max(T, Tmin), Tmax)
     cp = cp0_R(Tcl, a)
-    h = int_cp0_R(Tcl, a, T0)
-    s = int_cp0_R_over_T(Tcl, a, T0)
-    if Tcl != T:
-        h += cp * (T - Tcl)
-        s += cp * math.log(T / Tcl)
+    h = int_cp0_R(Tcl, a, T0) + cp * (T - Tcl)
+    s = int_cp0_R_over_T(Tcl, a, T0, math.log(Tcl / T0)) + cp * math.log(T / Tcl)
     return cp, h, s
 
 
@@ -78,11 +79,12 @@ def mixture_ideal(T, x, ig):
     h = 0.0
     s = 0.0
     xlnx = 0.0
+    ln_T_T0 = math.log(T / T0)
     for i in range(x.shape[0]):
         xi = x[i]
         if xi == 0.0:
             continue
-        c, hi, si = component_ideal(T, coeffs[i], Tmin[i], Tmax[i])
+        c, hi, si = component_ideal(T, ln_T_T0, coeffs[i], Tmin[i], Tmax[i])
         cp += xi * c
         h += xi * hi
         s += xi * si
