@@ -214,3 +214,28 @@ def test_unwritable_numba_cache_folder_falls_back_with_a_warning(tmp_path):
     out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True).stdout.split()
     assert out[0] != bad and os.path.isdir(out[0])
     assert out[1] == "True" and out[2] == "False"   # warned; numba not imported by the check
+
+
+def test_alpha_is_a_swappable_part_of_the_model():
+    """Another α kind is data in MixtureParameters: the kernels' a(T), a_T, a_TT of a pure
+    fluid are a_c times that α function's α, α', α'' (eosfill.model.alpha, itself checked
+    against thermo in test_alpha.py), and the (T, P) state follows P(T, v) of (C1)."""
+    from eosfill.model import alpha
+    from eosfill.model import cubic_kernels as ck
+
+    g = eosfill.Fluid("methane")
+    p0 = g.params
+    ap = alpha.TC_PR_ALPHA.parameters(p0.Tc, p0.Pc, p0.omega)
+    p = cubic.MixtureParameters.build(p0.model, p0.Tc, p0.Pc, p0.omega, p0.kij,
+                                      alpha_kind=alpha.TWU91, alpha_params=ap)
+    m = p.kernel_model
+    x = np.ones(1)
+    for T in (120.0, 190.0, 400.0):
+        a, a_T, a_TT, _ = ck.mixing_sums(T, x, m, np.empty(1), np.empty(1), np.empty(1))
+        al, dal, d2al = alpha.alpha_T(alpha.TWU91, T, p.Tc[0], ap[0, 0], ap[0, 1], ap[0, 2])
+        np.testing.assert_allclose([a, a_T, a_TT], p.ac[0] * np.array([al, dal, d2al]), rtol=1e-13)
+        soave = ck.mixing_sums(T, x, p0.kernel_model, np.empty(1), np.empty(1), np.empty(1))[0]
+        assert abs(a / soave - 1.0) > 1e-6   # a different α really is used
+        row = kp.props_TP_rows(m, g.kernel_ideal_gas, T, 5e6, x)
+        P = ck.pressure(T, row[kp.TP_V_EOS], a, row[kp.TP_B], p.delta1, p.delta2)
+        assert P == pytest.approx(5e6, rel=1e-10)
