@@ -119,11 +119,10 @@ class TVKernel:
         self._m = p.kernel_model
         self._ig = fluid.kernel_ideal_gas
 
+    _KEYS = ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v")   # the first columns of a (T, v) row
+
     def _row(self, row):
-        kp = self._kp
-        return dict(P=float(row[kp.TV_P]), u=float(row[kp.TV_U]), h=float(row[kp.TV_H]), s=float(row[kp.TV_S]),
-                    cv=float(row[kp.TV_CV]), dPdT=float(row[kp.TV_DPDT]), dPdv=float(row[kp.TV_DPDV]),
-                    v=float(row[kp.TV_V]))
+        return dict(zip(self._KEYS, row.tolist()))
 
     def __call__(self, T, v_eos):
         """Properties at T [K] and the model's molar volume v_eos [m³/mol].
@@ -132,7 +131,7 @@ class TVKernel:
         dPdT [Pa/K], dPdv [Pa mol/m³], v (shifted) [m³/mol].
         """
         kp = self._kp
-        if np.ndim(T) == 0 and np.ndim(v_eos) == 0:
+        if (isinstance(T, float) or np.ndim(T) == 0) and (isinstance(v_eos, float) or np.ndim(v_eos) == 0):
             return self._row(kp.props_Tv_entry(float(T), float(v_eos), self.x, self._m, self._ig))
         rows = kp.props_Tv_rows(self._m, self._ig, T, v_eos, self.x)
         return {k: rows[..., kp.TV_NAMES.index(k)] for k in ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v")}
