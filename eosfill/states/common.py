@@ -38,10 +38,11 @@ def props_TP(fluid: Mixture, T, P, x=None, which="stable"):
     from eosfill.model import properties as kp
 
     x = fluid.mole_fractions if x is None else x
-    rows = kp.props_TP_rows(fluid.params.kernel_model, fluid.kernel_ideal_gas, T, P, x, which)
-    out = {k: rows[..., col] for k, col in (("u", kp.TP_U), ("h", kp.TP_H), ("s", kp.TP_S), ("v", kp.TP_V),
-                                             ("cv", kp.TP_CV), ("b", kp.TP_B), ("v_eos", kp.TP_V_EOS))}
+    v_eos = kp.props_TP_rows(fluid.params.kernel_model, fluid.kernel_ideal_gas, T, P, x, which)[..., kp.TP_V_EOS]
+    out = props_Tv(fluid, T, v_eos, x)   # u, h, s, cv in their (T, v) form, as every (T, v) solve sees them
     out["P"] = np.asarray(P, dtype=float) * np.ones_like(out["u"])
+    out["h"] = out["u"] + out["P"] * out["v"]
+    out["v_eos"] = v_eos
     return out
 
 
