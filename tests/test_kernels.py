@@ -29,6 +29,9 @@ def _one_Tv(fluid, T, v_eos):
     return dict(zip(kp.TV_NAMES, row))
 
 
+# T from 30 K reaches below some Cp° fits on purpose (held-constant extension); the
+# RangeWarning itself is asserted in test_warnings.py
+@pytest.mark.filterwarnings("ignore::eosfill.errors.RangeWarning")
 @settings(max_examples=60, deadline=None)
 @given(model=st.sampled_from(["PR", "PR78", "SRK"]), mix=st.booleans(),
        T=st.floats(30.0, 1500.0), vr=st.floats(1.2, 1e4), shift=st.booleans())

@@ -19,7 +19,6 @@ TOP = {"__init__", "__main__"}  # the package's entry points may import anything
 # Known upward imports still to be removed (each names what removes it); the
 # test fails on any other, and on an entry here that no longer happens.
 KNOWN_UPWARD = {
-    ("eosfill.vessel.balances", "eosfill.io.units"): "result text formatted in the vessel layer (issue 12)",
 }
 
 

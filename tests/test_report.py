@@ -25,7 +25,6 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover - Python 3.10
     import tomli as tomllib
 
-pytestmark = pytest.mark.filterwarnings("ignore::eosfill.RangeWarning", "ignore::eosfill.LimitWarning")
 ROOT = Path(__file__).resolve().parent.parent
 DEMOS = ROOT / "data" / "scenarios"
 CAUTION = "local codes, the vessel's approval documents and licensed practice govern"
@@ -135,9 +134,20 @@ def test_limit_passed_is_shown_in_a_caution_box(tmp_path):
     assert r.returncode == 0, r.stderr
     text = (tmp_path / "r.html").read_text(encoding="utf-8")
     box = re.search(r'<div class="box limits"[^>]*>(.*?)</div>', text, re.S)
-    assert box is not None and "PASSED" in box.group(1)
+    assert box is not None and "Limit exceeded: gas temperature" in box.group(1)
     assert "max_gas_temperature" in box.group(1)
     assert "max_gas_temperature" in (tmp_path / "r.md").read_text(encoding="utf-8")
+    assert '<div class="box neutral"' not in text and "No limit reached" not in text
+
+
+def test_no_limit_reached_is_a_neutral_box(tmp_path):
+    sc = _scenario(tmp_path, PASSING_LIMIT.replace('"30 degC"', '"150 degC"'))
+    r = run("run", str(sc), "--report", str(tmp_path / "r.html"))
+    assert r.returncode == 0, r.stderr
+    text = (tmp_path / "r.html").read_text(encoding="utf-8")
+    box = re.search(r'<div class="box neutral"[^>]*>(.*?)</div>', text, re.S)
+    assert box is not None and "No limit reached" in box.group(1) and "&#9888;" not in box.group(1)
+    assert '<div class="box limits"' not in text
 
 
 def test_bad_scenario_writes_no_report(tmp_path):
@@ -189,3 +199,14 @@ def test_report_renders_in_a_browser(tmp_path):
     # the caution box's border colour (#b36b00) and the limits box's (#b00020) are on screen
     for rgb in ((0xB3, 0x6B, 0x00), (0xB0, 0x00, 0x20)):
         assert np.any(np.all(np.abs(img - np.array(rgb)) <= 2, axis=-1)), rgb
+    # laptop width: nothing drawn in the right margin (no table or figure overflows the page column)
+    from screenshot_report import print_pdf
+
+    laptop = screenshot(tmp_path / "r.html", tmp_path / "laptop.png", width=1366, height=3000)
+    img = (mpimg.imread(laptop)[..., :3] * 255).round().astype(int)
+    right = img[:, int(0.93 * img.shape[1]):]
+    assert np.all(right >= 250), "something overflows into the right margin"
+    # A4 print to PDF: pages of 595 x 842 pt (ISO 216 A4, 210 x 297 mm)
+    pdf = print_pdf(tmp_path / "r.html", tmp_path / "r.pdf").read_bytes()
+    boxes = re.findall(rb"/MediaBox\s*\[\s*0\s+0\s+([\d.]+)\s+([\d.]+)", pdf)
+    assert boxes and all(abs(float(w) - 595.3) < 2 and abs(float(h) - 841.9) < 2 for w, h in boxes)

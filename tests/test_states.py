@@ -18,7 +18,6 @@ from _reference import thermo_flashvl
 from eosfill.equilibrium import solvers as eq
 from eosfill.errors import ConvergenceError, InputError, RangeWarning
 
-warnings.simplefilter("ignore", RangeWarning)
 
 PURE = ["nitrogen", "methane", "carbon dioxide", "propane", "hydrogen", "argon", "R-134a",
         "ammonia", "ethane", "n-butane"]
@@ -169,6 +168,9 @@ PAIRS = [("u", "v"), ("P", "h"), ("P", "s"), ("P", "u"), ("T", "v"), ("P", "v"),
          ("h", "v"), ("s", "v")]
 
 
+# the round trips reach low reduced temperatures, below some Cp° fits on purpose
+# (held-constant extension); the RangeWarning itself is asserted in test_warnings.py
+@pytest.mark.filterwarnings("ignore::eosfill.errors.RangeWarning")
 @settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(name=st.sampled_from(PURE), model=st.sampled_from(["PR", "PR78", "SRK"]),
        seed=st.integers(0, 2**32 - 1))

@@ -95,7 +95,7 @@ def test_every_line_names_equation_and_text_is_ordered():
 # --------------------------------------------------------------------------
 from pathlib import Path  # noqa: E402
 
-from eosfill.io.trace import trace_fill  # noqa: E402
+from eosfill.io.trace_fill import trace_fill  # noqa: E402
 
 DEMOS = Path(__file__).resolve().parent.parent / "data" / "scenarios"
 

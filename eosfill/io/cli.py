@@ -1,8 +1,10 @@
 """Command line: ``eosfill run | state | fluids | explain``.
 
 Exit codes: 0 success; 2 bad input (a wrong option, a scenario error, an
-unknown fluid); 3 a solver failed or is not available.  Messages go to
-stderr, results to stdout.
+unknown fluid, an output file that cannot be written); 3 a solver failed or
+is not available; 4 an internal error of eosfill (a bug: please report it,
+with the output of the same command run with ``--debug``).  Messages go to
+stderr as one line, results to stdout; a traceback only with ``--debug``.
 
 Examples::
 
@@ -21,7 +23,7 @@ import warnings
 from eosfill import __version__
 from eosfill.errors import EosfillError, InputError
 
-EXIT_OK, EXIT_INPUT, EXIT_SOLVER = 0, 2, 3
+EXIT_OK, EXIT_INPUT, EXIT_SOLVER, EXIT_INTERNAL = 0, 2, 3, 4
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models; local codes, the "
            "vessel's approval documents and licensed practice govern.")
@@ -69,10 +71,51 @@ def parse_kij_text(items) -> dict:
 
 
 def _make_fluid(args):
+    import math
+
     from eosfill.states.fluid import Fluid
 
-    return Fluid(parse_fluid_text(args.fluid), model=args.model, kij=parse_kij_text(args.kij) or None,
+    comp = parse_fluid_text(args.fluid)
+    for name, x in comp.items():  # the checks a scenario file applies, in the command line's words
+        if not math.isfinite(x) or x < 0.0 or x > 1.0:
+            raise InputError("--fluid", args.fluid, message=f"--fluid {args.fluid!r}: fraction of {name} "
+                             f"{x:g} is out of range: a fraction must be in [0, 1]")
+    total = sum(comp.values())
+    if total <= 0.0:
+        raise InputError("--fluid", args.fluid, message=f"--fluid {args.fluid!r}: the fractions sum to zero")
+    if abs(total - 1.0) > 1e-9 and not args.normalise:
+        raise InputError("--fluid", args.fluid, message=f"--fluid {args.fluid!r}: the fractions sum to "
+                         f"{float(total)!r}, not 1 (within 1e-9); correct them or add --normalise")
+    for (a, b), k in parse_kij_text(args.kij).items():
+        if not -1.0 < k < 1.0:
+            raise InputError("--kij", k, message=f"--kij {a}/{b}={k:g}: out of range: must be > -1 and < 1")
+    return Fluid(comp, model=args.model, kij=parse_kij_text(args.kij) or None,
                  basis=args.basis, normalise=args.normalise)
+
+
+def _ambient_pressure(args):
+    """``--ambient-pressure``: absolute, above 0 Pa (the same check as ``ambient.pressure`` in a file)."""
+    from eosfill.io.units import check_range, is_gauge, parse_quantity
+
+    raw = args.ambient_pressure
+    if is_gauge(raw):
+        raise InputError("--ambient-pressure", raw, message=f"--ambient-pressure = {raw!r}: must be absolute "
+                         "(it is the zero of gauge pressures)")
+    value = parse_quantity(raw, "pressure", "--ambient-pressure")
+    check_range("--ambient-pressure", raw, value, "pressure", minimum=0.0, strict=True)
+    return value
+
+
+def _finite_state(st, what):
+    """A state printed must have finite figures; a solver that returns NaN has failed."""
+    import numpy as np
+
+    from eosfill.errors import ConvergenceError
+
+    bad = [k for k in ("T", "P", "v", "h", "s") if not np.all(np.isfinite(getattr(st, k)))]
+    if bad:
+        raise ConvergenceError(what, "non-finite " + ", ".join(bad),
+                               {k: float(np.ravel(getattr(st, k))[0]) for k in ("T", "P", "v")})
 
 
 def _fluid_options(p):
@@ -103,7 +146,10 @@ def _state_table(fluid, st):
     from eosfill.io.units import format_number as fn
 
     M = st.molar_mass
+    risk = st.solid_risk  # solid region / freeze-out screening (eosfill.equilibrium.solid)
     rows = [
+        _row("phase", "solid region", "", f"{risk.label.partition(' (')[2].rstrip(')')}; the cubic alone says "
+             f"{st.phase}") if risk else
         _row("phase", st.phase, "", st.root_choice if st.phase != "two-phase" else ""),
         _row("temperature", fn(st.T - 273.15), "°C", f"{fn(st.T)} K"),
         _row("pressure", fn(st.P / 1e5), "bar", f"{fn(st.P)} Pa"),
@@ -154,10 +200,10 @@ def _state_table(fluid, st):
 # commands
 # --------------------------------------------------------------------------
 def cmd_state(args):
-    from eosfill.io.units import parse_quantity
+    from eosfill.io.units import check_range, parse_quantity
 
     fluid = _make_fluid(args)
-    amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
+    amb = _ambient_pressure(args)
     spec = {}
     for key, kind in _STATE_KINDS.items():
         raw = getattr(args, key)
@@ -166,8 +212,17 @@ def cmd_state(args):
     if len(spec) != 2:
         raise InputError("state", sorted(spec), message="give exactly two of --T, --P, --v, --h, --u, --s "
                          f"(got {', '.join('--' + k for k in spec) or 'none'})")
-    st = fluid.state(**spec)
-    print(_state_table(fluid, st))
+    if "P" in spec:
+        check_range("--P", args.P, spec["P"], "pressure", minimum=0.0, strict=True)
+    import numpy as np
+
+    with np.errstate(all="ignore"):  # a non-finite figure is checked below, not printed as a warning
+        st = fluid.state(**spec)
+        _finite_state(st, "state")
+        table = _state_table(fluid, st)
+    print(table)
+    for message in st.solid_risk.messages:
+        print(f"WARNING: {message}")
     print(REFERENCE)
     print(CAUTION)
     return EXIT_OK
@@ -175,7 +230,7 @@ def cmd_state(args):
 
 def cmd_explain(args):
     from eosfill.io.trace import format_trace, trace_state
-    from eosfill.io.units import parse_quantity
+    from eosfill.io.units import check_range, parse_quantity
 
     if args.scenario is not None:
         return _explain_scenario(args)
@@ -184,10 +239,13 @@ def cmd_explain(args):
         raise InputError("explain", None, message="explain: give --fluid, --T and --P (missing: "
                          + ", ".join("--" + m for m in missing) + "), or --scenario FILE")
     fluid = _make_fluid(args)
-    amb = parse_quantity(args.ambient_pressure, "pressure", "--ambient-pressure")
+    amb = _ambient_pressure(args)
     T = parse_quantity(args.T, "temperature", "--T")
     P = parse_quantity(args.P, "pressure", "--P", ambient_pressure=amb)
+    check_range("--P", args.P, P, "pressure", minimum=0.0, strict=True)
     print(format_trace(trace_state(fluid, T, P)))
+    for message in fluid.state(T=T, P=P).solid_risk.messages:  # solid region screening
+        print(f"WARNING: {message}")
     return EXIT_OK
 
 
@@ -259,17 +317,14 @@ def cmd_run(args):
 
     from eosfill.io.scenario import load_scenario
 
-    scenario = load_scenario(args.scenario)
+    scenario = load_scenario(args.scenario, allow_output_outside=args.allow_output_outside)
     for key in ("json", "csv", "report"):
         raw = getattr(args, key)
-        if raw is None:
-            continue
-        p = Path(raw)
-        if not p.parent.resolve().is_dir():
-            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: the folder {p.parent} does not exist")
-        if p.is_dir():
-            raise InputError(f"--{key}", raw, message=f"--{key} {raw}: is a folder; give a file name")
-        setattr(scenario.output, key, p)
+        if raw is not None:
+            setattr(scenario.output, key, Path(raw))
+    from eosfill.io.files import check_outputs
+
+    check_outputs(scenario, force=args.force)  # before anything is computed
     _require_report_tools(scenario)
     for line in scenario.summary():
         print(line)
@@ -277,11 +332,13 @@ def cmd_run(args):
 
     bar, progress = _progress_bar(scenario)
     try:
-        result = jobs.run_scenario(scenario, progress=progress)
+        result = jobs.run_scenario(scenario, progress=progress, force=args.force)
     finally:
         if bar is not None:
             bar.close()
-    text = "" if result is None else str(result)
+    from eosfill.io.summaries import render
+
+    text = "" if result is None else render(result)
     if text:
         print(text)
     if "Caution" not in text:  # results carry their own caution; never print none
@@ -297,6 +354,7 @@ def build_parser() -> argparse.ArgumentParser:
                     "from published cubic equations of state. " + CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"eosfill {__version__}")
+    parser.add_argument("--debug", action="store_true", help="on an error, print the full traceback too")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     sub.required = True
 
@@ -306,6 +364,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--csv", metavar="FILE", help="write the time series or table as CSV")
     p.add_argument("--report", metavar="FILE", help="write an HTML report (self-contained, plots embedded) and "
                    "its Markdown twin FILE.md beside it, with the plots as PNG files; needs matplotlib")
+    p.add_argument("--force", action="store_true", help="overwrite output files that exist (never the "
+                   "scenario file)")
+    p.add_argument("--allow-output-outside", action="store_true", help="let the scenario's [output] paths "
+                   "leave the scenario file's folder")
     p.set_defaults(func=cmd_run)
 
     p = sub.add_parser("state", help="properties of a fluid at two given properties")
@@ -340,8 +402,22 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):
     print(f"eosfill: warning: {message}", file=sys.stderr)
 
 
+def _os_error_text(exc) -> str:
+    """One line for a file the command could not read or write."""
+    what = exc.strerror or type(exc).__name__
+    where = f" {exc.filename}" if exc.filename else ""
+    return f"cannot use the file{where}: {what}"
+
+
 def main(argv=None) -> int:
-    """Entry point of the ``eosfill`` command; returns the exit code."""
+    """Entry point of the ``eosfill`` command; returns the exit code.
+
+    Every failure is one line on stderr and an exit code: 2 input (including
+    files that cannot be read or written), 3 solver, 4 anything unexpected
+    (an internal error, "please report"); ``--debug`` adds the traceback."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    debug = "--debug" in argv
+    argv = [a for a in argv if a != "--debug"]  # accepted before or after the command
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
@@ -352,9 +428,11 @@ def main(argv=None) -> int:
     try:
         return args.func(args)
     except InputError as exc:
+        _debug_traceback(debug)
         print(f"eosfill: error: {exc}", file=sys.stderr)
         return EXIT_INPUT
     except EosfillError as exc:
+        _debug_traceback(debug)
         print(f"eosfill: solver failure: {exc}", file=sys.stderr)
         return EXIT_SOLVER
     except BrokenPipeError:  # output piped into `head` and the like
@@ -362,8 +440,28 @@ def main(argv=None) -> int:
 
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return EXIT_OK
+    except OSError as exc:  # a file that cannot be read or written: the user's input
+        _debug_traceback(debug)
+        print(f"eosfill: error: {_os_error_text(exc)}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("eosfill: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # noqa: BLE001 - the top-level guard: never a bare traceback
+        _debug_traceback(debug)
+        print(f"eosfill: internal error ({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''}); "
+              "this is a bug, please report it to the eosfill developers with the command, the scenario "
+              "file and the output of the same command with --debug", file=sys.stderr)
+        return EXIT_INTERNAL
     finally:
         warnings.showwarning = old
+
+
+def _debug_traceback(debug):
+    if debug:
+        import traceback
+
+        traceback.print_exc(file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,7 +1,7 @@
 """Run a scenario: map a :class:`eosfill.scenario.Scenario` to the vessel
 balances of :mod:`eosfill.vessel` and write the files it asks for.
 
-``eosfill run FILE`` calls :func:`run_scenario`; it prints ``str(result)``.
+``eosfill run FILE`` calls :func:`run_scenario`; it prints ``eosfill.io.summaries.render(result)``.
 Kinds: ``fill``, ``cascade_fill``, ``liquefied_fill`` and ``vent`` here;
 ``transient_fill`` and ``transient_vent`` are handed to
 ``eosfill.io.transient_run.run_scenario``.
@@ -14,40 +14,50 @@ local codes, the vessel's approval documents and licensed practice govern.
 """
 from __future__ import annotations
 
-import csv
-import json
 import warnings
 
 from eosfill.errors import InputError, LimitWarning
 from eosfill.io.inputs import _fluid_of, _initial_of, _limits, _stop_of, _vessel_of  # noqa: F401
 from eosfill.io.scenario import TRANSIENT_KINDS
 
-def run_scenario(scenario, write=True, progress=None):
+def run_scenario(scenario, write=True, progress=None, force=False):
     """Compute a scenario's result and write its json/csv/report files.
 
     ``write=False`` computes only (nothing is written).  ``progress``: a
     callable(t [s]) called after each step of a time-resolved run (the
-    command line passes a progress bar).
+    command line passes a progress bar).  ``force``: overwrite existing
+    output files (never the scenario file).  The outputs are written all or
+    nothing (:mod:`eosfill.io.files`); a time-resolved run that fails part-way
+    writes the JSON and CSV of what it computed, marked incomplete, then raises.
 
     Returns
     -------
     eosfill.vessel.Result (or the transient module's result)
     """
+    from eosfill.io import files
     from eosfill.vessel import balances as vs
     from eosfill.vessel.cascade import Bank, cascade_fill
     from eosfill.vessel.vent import vent
 
+    if write:
+        files.check_outputs(scenario, force)
+        if scenario.output.report is not None:  # fail before computing when the report cannot be made
+            from eosfill.io.plots import require_matplotlib
+
+            require_matplotlib()
     kind = scenario.kind
     if kind in TRANSIENT_KINDS:
         from eosfill.io import transient_run
+        from eosfill.transient.model import IntegrationError
 
-        if not write:
-            from dataclasses import replace
-
-            scenario = replace(scenario, output=replace(scenario.output, json=None, csv=None, report=None))
-        result = transient_run.run_scenario(scenario, progress=progress)  # writes its own json/csv
-        if write and scenario.output.report is not None:
-            write_report(scenario, result)
+        try:
+            result = transient_run.run_scenario(scenario, progress=progress)
+        except IntegrationError as exc:
+            if write:
+                write_outputs(scenario, exc.partial, force=force, partial=True)
+            raise
+        if write:
+            write_outputs(scenario, result, force=force)
         return result
     vessel = _vessel_of(scenario)
     initial = _initial_of(scenario)
@@ -73,61 +83,49 @@ def run_scenario(scenario, write=True, progress=None):
     else:  # pragma: no cover - the scenario reader allows no other kind
         raise InputError("kind", kind, "fill, cascade_fill, liquefied_fill, vent")
     result.title = scenario.title
+    from eosfill.io.summaries import flag_text
+
     for flag in result.flags:
-        warnings.warn(flag, LimitWarning, stacklevel=2)
+        warnings.warn(flag_text(flag), LimitWarning, stacklevel=2)
     if write:
-        write_outputs(scenario, result)
+        write_outputs(scenario, result, force=force)
     return result
 
 
-# --------------------------------------------------------------------------
-# files
-# --------------------------------------------------------------------------
-def _table(result, engineering=True):
-    """Rows for the CSV: cascade stages, or the end state along the fill/vent."""
-    if engineering:
-        head_T, head_P = "T_degC", "P_bar"
-        cT, cP = (lambda T: T - 273.15), (lambda P: P / 1e5)
-    else:
-        head_T, head_P = "T_K", "P_Pa"
-        cT, cP = (lambda T: T), (lambda P: P)
-    if result.stages:
-        header = ["bank", "reason", "bank_" + head_T, "bank_" + head_P, "mass_drawn_kg",
-                  "vessel_" + head_T, "vessel_" + head_P, "vessel_mass_kg"]
-        rows = [[s["bank"], s["reason"], cT(s["bank_T"]), cP(s["bank_P"]), s["mass_drawn"],
-                 cT(s["vessel_T"]), cP(s["vessel_P"]), s["vessel_mass"]] for s in result.stages]
-        return header, rows
-    header = ["vessel_mass_kg", head_T, head_P]
-    rows = [[p["mass"], cT(p["T"]), cP(p["P"])] for p in result.curve]
-    return header, rows
+def render_outputs(scenario, result, partial=False) -> dict:
+    """{path: bytes} of every output ``scenario.output`` asks for (nothing written).
 
+    ``partial``: the result of a run that stopped early; its JSON and CSV are
+    rendered (marked incomplete in the JSON), not the report."""
+    from pathlib import Path
 
-def write_outputs(scenario, result):
-    """Write ``scenario.output.json`` / ``.csv`` / ``.report`` if set."""
+    from eosfill.io import tables
+
     out = scenario.output
-    if out.report is not None:  # fail before anything is written when the report cannot be made
-        from eosfill.io.plots import require_matplotlib
-
-        require_matplotlib()
+    files = {}
     if out.json is not None:
-        data = {"scenario": scenario.to_dict(), "result": result.to_dict()}
-        with open(out.json, "w", encoding="utf-8") as fh:
-            json.dump(data, fh, indent=2, default=str)
+        files[Path(out.json)] = tables.result_json(scenario, result).encode("utf-8")
     if out.csv is not None:
-        header, rows = _table(result, engineering=out.units != "SI")
-        with open(out.csv, "w", newline="", encoding="utf-8") as fh:
-            w = csv.writer(fh)
-            w.writerow(header)
-            for r in rows:
-                w.writerow([f"{x:.{out.digits}g}" if isinstance(x, float) else x for x in r])
-    if out.report is not None:
-        write_report(scenario, result)
+        files[Path(out.csv)] = tables.result_csv(result, units=out.units, digits=out.digits).encode("utf-8")
+    if out.report is not None and not partial:
+        from eosfill.io.report import render_report
+
+        files.update(render_report(scenario, result, Path(out.report)))
+    return files
 
 
-def write_report(scenario, result):
-    """Write the HTML report at ``scenario.output.report`` and its Markdown twin (:mod:`eosfill.report`).
+def write_outputs(scenario, result, force=False, partial=False) -> list:
+    """Render and write every output of ``scenario.output``, all or nothing."""
+    from eosfill.io.files import commit
+
+    out = render_outputs(scenario, result, partial=partial)
+    return commit(out, force=force, scenario_path=scenario.path) if out else []
+
+
+def write_report(scenario, result, force=False):
+    """Write the HTML report at ``scenario.output.report`` and its Markdown twin (:mod:`eosfill.io.report`).
 
     Raises EosfillError (with an install hint) when matplotlib is missing."""
     from eosfill.io import report
 
-    return report.write_report(scenario, result, scenario.output.report)
+    return report.write_report(scenario, result, scenario.output.report, force=force)

@@ -1,23 +1,15 @@
-"""Plots of a report (matplotlib, Agg canvas, PNG bytes): the content's path
-on a temperature-entropy diagram with the fluid's two-phase boundary, time
-series of a time-resolved run, and each cascade bank's contribution.
+"""Plots of a report (matplotlib, Agg canvas, PNG bytes): the shared figure
+helpers, the time series of a time-resolved run and each cascade bank's
+contribution; the temperature-entropy diagram is in :mod:`eosfill.io.plots_path`.
 Used by :mod:`eosfill.report`; matplotlib is imported only here, on use.
 """
 from __future__ import annotations
 
-import functools
 import io
 
 import numpy as np
 
 from eosfill.errors import EosfillError
-
-def _z_vec(fluid, comp):
-    z = np.zeros(fluid.nc)
-    for k, x in (comp or {}).items():
-        z[fluid.names.index(k)] = x
-    return z
-
 
 MISSING_MATPLOTLIB = ("the report's plots need matplotlib, which is not installed; install it with "
                       "\"pip install matplotlib\" (or eosfill's report extra), or run without --report")
@@ -31,176 +23,6 @@ def require_matplotlib():
         from matplotlib.figure import Figure  # noqa: F401
     except ImportError:
         raise EosfillError(MISSING_MATPLOTLIB) from None
-
-
-def _props(fluid, z, T, v):
-    """(s, h) per kg of composition z at (T, v), or None if the state fails."""
-    f = fluid.with_composition(z)
-    M = float(z @ fluid.molar_masses)
-    try:
-        with np.errstate(invalid="ignore", divide="ignore"):
-            st = f.state(T=float(T), v=float(v))
-        return float(np.asarray(st.s)) / M, float(np.asarray(st.h)) / M
-    except EosfillError:
-        return None
-
-
-def path_states(scenario, result, max_points=40):
-    """States the content passes through, for the diagram.
-
-    Returns dict with ``path`` (list of dict T [K], P [Pa], s [J/(kg K)],
-    h [J/kg], label), ``joined`` (True when only end points are known and the
-    line between them is not the path), ``others`` (supply or bank states:
-    lists of such dicts with a ``label``), and ``z_final`` (mole fractions).
-    """
-    from eosfill.vessel.balances import Result
-
-    fluid = scenario.fluid()
-    V = scenario.vessel.volume
-    pts, others, joined = [], [], False
-
-    def add(target, z, T, P, n, label=""):
-        if n <= 0:
-            return
-        sh = _props(fluid, z, T, V / n)
-        if sh is not None:
-            target.append(dict(T=float(T), P=float(P), s=sh[0], h=sh[1], label=label))
-
-    def add_TP(target, z, T, P, label):
-        f = fluid.with_composition(z)
-        M = float(z @ fluid.molar_masses)
-        try:
-            with np.errstate(invalid="ignore", divide="ignore"):
-                st = f.state(T=float(T), P=float(P))
-            target.append(dict(T=float(T), P=float(P), s=float(st.s) / M, h=float(st.h) / M, label=label))
-        except EosfillError:
-            pass
-
-    if isinstance(result, Result):
-        r = result
-        z_f = _z_vec(fluid, r.final.composition)
-        z0 = _z_vec(fluid, r.initial.composition) if r.initial is not None else None
-        n0 = r.initial.n if r.initial is not None else 0.0
-        m0 = r.initial.mass if r.initial is not None else 0.0
-        if r.kind in ("fill", "liquefied_fill"):
-            z_in = _z_vec(fluid, r.supply["composition"])
-            M_in = float(z_in @ fluid.molar_masses)
-            if r.initial is not None:
-                add(pts, z0, r.initial.T, r.initial.P, n0, "initial")
-            for p in r.curve:
-                n = n0 + (p["mass"] - m0) / M_in
-                if r.initial is None and p["P"] < 0.02 * r.final.P:
-                    continue  # the first gas in an evacuated vessel: near vacuum, off the chart
-                z = (n0 * z0 + (n - n0) * z_in) / n if z0 is not None else z_in
-                add(pts, z, p["T"], p["P"], n)
-            add(pts, z_f, r.final.T, r.final.P, r.final.n, "final")
-            add_TP(others, z_in, r.supply["T"], r.supply["P"], "supply")
-        elif r.kind == "cascade_fill":
-            joined = True
-            if r.initial is not None:
-                add(pts, z0, r.initial.T, r.initial.P, n0, "initial")
-            n, nz = n0, (n0 * z0 if z0 is not None else np.zeros(fluid.nc))
-            for st, b in zip(r.stages, scenario.banks):
-                zb = _z_vec(fluid, st["bank_composition"])
-                add_TP(others, zb, b.temperature, b.pressure, f"bank {st['bank']} start")
-                if st["moles_drawn"] <= 0:
-                    continue
-                add_TP(others, zb, st["bank_T"], st["bank_P"], f"bank {st['bank']} end")
-                n += st["moles_drawn"]
-                nz = nz + st["moles_drawn"] * zb
-                add(pts, nz / n, st["vessel_T"], st["vessel_P"], n, f"after bank {st['bank']}")
-        else:  # vent: one composition
-            M = float(z0 @ fluid.molar_masses)
-            for p in r.curve:
-                add(pts, z0, p["T"], p["P"], p["mass"] / M)
-            if pts:
-                pts[0]["label"] = "initial"
-            add(pts, z_f, r.final.T, r.final.P, r.final.n, "final")
-        return dict(path=pts, joined=joined, others=others, z_final=z_f)
-
-    # time-resolved
-    r = result
-    sc = scenario
-    z0 = sc.mole_fractions(sc.initial.composition) if not sc.initial.empty else None
-    if sc.kind == "transient_vent":
-        z_in = None
-    elif sc.supply is not None:
-        z_in = sc.mole_fractions(sc.supply.composition)
-    else:
-        zs = [sc.mole_fractions(b.composition) for b in sc.banks]
-        z_in = zs[0] if all(np.allclose(z, zs[0]) for z in zs) else None
-        if z_in is None:
-            return dict(path=[], joined=False, others=[], z_final=None,
-                        note="banks of different compositions: the path is not drawn")
-    if z0 is None:
-        z0 = z_in
-    M0 = float(z0 @ fluid.molar_masses)
-    m0 = float(r.mass[0])
-    n0 = m0 / M0
-    idx = np.unique(np.linspace(0, r.t.size - 1, min(max_points, r.t.size)).round().astype(int))
-    z = z0
-    for i in idx:
-        m = float(r.mass[i])
-        if z_in is not None:
-            M_in = float(z_in @ fluid.molar_masses)
-            n = n0 + (m - m0) / M_in
-            z = (n0 * z0 + (n - n0) * z_in) / n
-        else:
-            n = m / M0
-        add(pts, z, r.T_gas[i], r.P[i], n, "initial" if i == 0 else ("final" if i == idx[-1] else ""))
-    if z_in is not None and sc.supply is not None:
-        add_TP(others, z_in, sc.supply.temperature, sc.supply.pressure, "supply")
-    return dict(path=pts, joined=False, others=others, z_final=z)
-
-
-@functools.lru_cache(maxsize=16)
-def _dome_cached(names, z, model, kij, shift):
-    """Two-phase boundary (T [K], s [J/(kg K)]) lines: pure saturation curve or bubble/dew curves."""
-    from eosfill.equilibrium import solvers as equilibrium
-    from eosfill.states.fluid import Fluid
-
-    comp = {n: x for n, x in zip(names, z) if x > 0}
-    kd = {}
-    for i in range(len(names)):
-        for j in range(i + 1, len(names)):
-            kd[(names[i], names[j])] = kij[i * len(names) + j]
-    f = Fluid(comp, model=model, kij={k: v for k, v in kd.items() if k[0] in comp and k[1] in comp} or None,
-              normalise=True)
-    M = f.molar_mass
-    lines = {}
-    with np.errstate(invalid="ignore", divide="ignore"):
-        if f.nc == 1:
-            Tc, Pc = f.critical_point_pure()
-            T = Tc * (1.0 - np.geomspace(2e-4, 0.45, 40))[::-1]
-            sat = equilibrium.saturation_pressure(T, f.params, raise_on_fail=False)
-            P = np.asarray(sat["P"])
-            ok = np.isfinite(P) & (P > 0)
-            T, P = T[ok], P[ok]
-            sL = np.asarray(f.single_phase(T, P, which="liquid").s) / M
-            sV = np.asarray(f.single_phase(T, P, which="vapour").s) / M
-            sc = float(np.asarray(f.single_phase(Tc, Pc).s)) / M
-            lines["saturated liquid"] = (np.append(T, Tc), np.append(sL, sc))
-            lines["saturated vapour"] = (np.append(T, Tc), np.append(sV, sc))
-            lines["critical point"] = (np.array([Tc]), np.array([sc]))
-        else:
-            env = equilibrium.phase_envelope(f.mole_fractions, f.params, n=10)  # a few seconds; enough for a drawing
-            for kind, which in (("bubble", "liquid"), ("dew", "vapour")):
-                P, T, _ = env[kind]
-                if len(P):
-                    s = np.asarray(f.single_phase(np.asarray(T), np.asarray(P), which=which).s) / M
-                    lines[f"{kind} curve"] = (np.asarray(T), s)
-    return lines
-
-
-def dome_lines(fluid, z):
-    """Two-phase boundary of composition z on T-s axes (cached per composition)."""
-    z = np.asarray(z, dtype=float)
-    keep = z > 1e-12
-    names = tuple(n for n, k in zip(fluid.names, keep) if k)
-    zz = tuple(round(float(x), 12) for x in z[keep])
-    idx = np.flatnonzero(keep)
-    kij = tuple(float(fluid.kij[i, j]) for i in idx for j in idx)
-    return _dome_cached(names, zz, fluid.model.name, kij, 0.0)
 
 
 def _figure(w=8.0, h=4.6):
@@ -232,109 +54,93 @@ def _C(T):
     return np.asarray(T, dtype=float) - 273.15
 
 
-def plot_path(scenario, result):
-    """T-s diagram: the content's path, the supply/bank states and the two-phase boundary."""
-    info = path_states(scenario, result)
-    pts = info["path"]
-    if not pts:
-        return None, info.get("note", "no path")
-    fluid = scenario.fluid()
-    try:
-        dome = dome_lines(fluid, info["z_final"])
-    except EosfillError:
-        dome = {}
-    fig = _figure(9.0, 5.2)
-    s = np.array([p["s"] for p in pts]) / 1e3
-    T = _C([p["T"] for p in pts])
-    s_all = list(s) + [o["s"] / 1e3 for o in info["others"]]
-    T_all = list(T) + [float(_C(o["T"])) for o in info["others"]]
-    box = (min(s_all), max(s_all), min(T_all), max(T_all))
-    dome_s = np.concatenate([v[1] for v in dome.values()]) / 1e3 if dome else np.array([])
-    dome_T = _C(np.concatenate([v[0] for v in dome.values()])) if dome else np.array([])
-    full_s = np.concatenate([s_all, dome_s]) if dome_s.size else np.array(s_all)
-    full_T = np.concatenate([T_all, dome_T]) if dome_T.size else np.array(T_all)
-    span = lambda a: (np.nanmax(a) - np.nanmin(a)) or 1.0  # noqa: E731
-    small = dome_s.size and (span(s_all) < 0.25 * span(full_s) or (box[3] - box[2]) < 0.25 * span(full_T))
-    axes = [fig.add_subplot(1, 2, 1), fig.add_subplot(1, 2, 2)] if small else [fig.add_subplot(1, 1, 1)]
-    for k, ax in enumerate(axes):
-        for name, (dT, ds) in dome.items():
-            if name == "critical point":
-                ax.plot(ds / 1e3, _C(dT), "k*", ms=9, label=name)
-            else:
-                ax.plot(ds / 1e3, _C(dT), "-", color="#1f5fa0" if "liquid" in name or "bubble" in name else "#c0392b",
-                        lw=1.4, label=name)
-        ax.plot(s, T, "--" if info["joined"] else "-", color="#222", lw=2.0, marker="o", ms=3.5,
-                label="vessel content" + (" (states joined in order)" if info["joined"] else ""))
-        for p, ss, tt in zip(pts, s, T):
-            if p["label"]:
-                ax.annotate(p["label"], (ss, tt), textcoords="offset points", xytext=(5, 4), fontsize=8)
-        groups = {}
-        for o in info["others"]:
-            groups.setdefault(o["label"].replace(" start", "").replace(" end", ""), []).append(o)
-        shades = ("#1b5e20", "#43a047", "#81c784", "#00695c", "#4db6ac", "#827717")
-        for i, (label, grp) in enumerate(groups.items()):
-            gs = [o["s"] / 1e3 for o in grp]
-            gT = [float(_C(o["T"])) for o in grp]
-            # named in the legend, not on the plot: bank states crowd together
-            ax.plot(gs, gT, "s-", color=shades[i % len(shades)], ms=5, lw=1.2,
-                    label=f"{label} (start → end)" if len(grp) > 1 else label)
-        ax.set_xlabel("specific entropy s  [kJ/(kg K)]")
-        ax.set_ylabel("temperature  [°C]")
-        ax.grid(True, alpha=0.3)
-        if small and k == 1:
-            ds_, dT_ = (box[1] - box[0]) or 0.1, (box[3] - box[2]) or 5.0
-            ax.set_xlim(box[0] - 0.25 * ds_, box[1] + 0.25 * ds_)
-            ax.set_ylim(box[2] - 0.25 * dT_, box[3] + 0.25 * dT_)
-            ax.set_title("close-up of the path", fontsize=10)
-        elif small:
-            ax.set_title("with the two-phase region", fontsize=10)
-    axes[0].legend(fontsize=7, loc="best")
-    where = "of the final composition" if fluid.nc > 1 else "of the fluid"
-    fig.suptitle("Temperature–entropy diagram", fontsize=11)
-    cap = (f"Temperature–entropy diagram: the vessel content's path (black), the two-phase boundary {where} "
-           "(blue: liquid/bubble side, red: vapour/dew side)"
-           + ("; cascade: states after each bank, joined in order (the line between them is not the path); "
-              "green squares: each bank's start and end states (each bank follows its own isentrope)"
-              if info["joined"] else "; green: the supply state (it enters by an isenthalpic throttle)"
-              if info["others"] else "") + ".")
-    if not dome:
-        cap += " The two-phase boundary could not be computed for this composition."
-    elif fluid.nc > 1:
-        cap += (" Bubble and dew curves are drawn where their points converged, pressure by pressure; near the "
-                "critical point they may stop short of meeting.")
-    return _png(fig), cap
+# limit lines: each its own colour and style, labelled on the plot itself
+_LIMIT_STYLES = {
+    "max_pressure": ("#b00020", "--", "max pressure"),
+    "max_gas_temperature": ("#b00020", "--", "max gas"),
+    "min_gas_temperature": ("#1565c0", "--", "min gas"),
+    "max_wall_temperature": ("#e65100", "-.", "max wall"),
+    "min_wall_temperature": ("#6a1b9a", "-.", "min wall"),
+}
+
+
+def _limit_line(ax, key, value, text, also=()):
+    """A horizontal limit line with its name and value written on it (not only in a
+    legend); ``also``: other limits at the same value, named in the same label."""
+    color, style, words = _LIMIT_STYLES[key]
+    ax.axhline(value, color=color, ls=style, lw=1.2)
+    names = " and ".join([words] + [_LIMIT_STYLES[k][2] for k in also])
+    ax.annotate(f"{names} limit{'s' if also else ''} {text}", xy=(0.005, value), xycoords=("axes fraction", "data"),
+                xytext=(2, 2), textcoords="offset points", fontsize=7.5, color=color, va="bottom")
+
+
+def _series(r, name):
+    """(t, values) of a series: the integrator's dense solution when the run kept it."""
+    d = getattr(r, "dense", None) or {}
+    if name in d and "t" in d and len(d["t"]) >= len(r.t):
+        t = np.asarray(d["t"], dtype=float)
+        return t, np.asarray(d[name], dtype=float)
+    return np.asarray(r.t, dtype=float), np.asarray(getattr(r, name), dtype=float)
+
+
+def _pad_to(ax, values):
+    """Keep every limit line inside the axes (a limit far from the data widens them a little)."""
+    lo, hi = ax.get_ylim()
+    vals = [v for v in values if v is not None and np.isfinite(v)]
+    if vals:
+        lo, hi = min(lo, min(vals)), max(hi, max(vals))
+        pad = 0.06 * (hi - lo or 1.0)
+        ax.set_ylim(lo - pad, hi + pad)
 
 
 def plot_time_series(scenario, result):
-    """Three figures of a time-resolved run: pressure, temperatures, mass against time."""
+    """Three figures of a time-resolved run: pressure, temperatures, mass against time,
+    drawn from the integrator's dense solution (every step), with the located extrema."""
     r = result
-    t = np.asarray(r.t, dtype=float)
     lim = scenario.limits
     out = []
     fig = _figure(8.0, 3.4)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, np.asarray(r.P) / 1e5, color="#1f5fa0", lw=1.8, label="vessel pressure")
+    t, P = _series(r, "P")
+    ax.plot(t, P / 1e5, color="#1f5fa0", lw=1.8, label="vessel pressure")
     if lim.max_pressure is not None:
-        ax.axhline(lim.max_pressure / 1e5, color="#b00020", ls="--", lw=1, label="max_pressure limit")
+        _limit_line(ax, "max_pressure", lim.max_pressure / 1e5, f"{lim.max_pressure / 1e5:.4g} bar")
+        _pad_to(ax, [lim.max_pressure / 1e5])
     _finish(ax, "time  [s]", "pressure  [bar]")
     out.append(("pressure", _png(fig), "Vessel pressure against time."))
-    fig = _figure(8.0, 3.4)
+    fig = _figure(8.0, 3.6)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, _C(r.T_gas), color="#c0392b", lw=1.8, label="gas")
+    t, Tg = _series(r, "T_gas")
+    ax.plot(t, _C(Tg), color="#c0392b", lw=1.8, label="gas")
     if np.isfinite(np.asarray(r.T_wall_inner, dtype=float)).any():
-        ax.plot(t, _C(r.T_wall_inner), color="#555", lw=1.5, label="wall, inner surface")
+        tw, Twi = _series(r, "T_wall_inner")
+        ax.plot(tw, _C(Twi), color="#555", lw=1.5, label="wall, inner surface")
         if not np.allclose(r.T_wall_inner, r.T_wall_outer, equal_nan=True):
-            ax.plot(t, _C(r.T_wall_outer), color="#999", lw=1.2, ls=":", label="wall, outer surface")
-    for key, style in (("max_gas_temperature", "--"), ("min_gas_temperature", "--"),
-                       ("max_wall_temperature", "-."), ("min_wall_temperature", "-.")):
+            tw, Two = _series(r, "T_wall_outer")
+            ax.plot(tw, _C(Two), color="#999", lw=1.2, ls=":", label="wall, outer surface")
+    for which, marker in (("max", "^"), ("min", "v")):
+        val, when = r.peak("T_gas", which)
+        if np.isfinite(val):
+            ax.plot([when], [val - 273.15], marker, color="#c0392b", ms=6,
+                    label=f"gas {which}imum {val - 273.15:.2f} °C at {when:.4g} s" if which == "min"
+                    or r.kind == "fill" else None)
+    shown = {}
+    for key in ("max_gas_temperature", "min_gas_temperature", "max_wall_temperature", "min_wall_temperature"):
         v = getattr(lim, key)
         if v is not None:
-            ax.axhline(v - 273.15, color="#b00020", ls=style, lw=1, label=f"{key} limit")
+            shown.setdefault(round(v, 6), []).append(key)
+    for v, keys in shown.items():  # limits at one value share one line and one label
+        _limit_line(ax, keys[0], v - 273.15, f"{v - 273.15:.4g} °C", also=keys[1:])
+    shown = [v - 273.15 for v in shown]
+    _pad_to(ax, shown)
     _finish(ax, "time  [s]", "temperature  [°C]")
-    out.append(("temperature", _png(fig), "Gas and wall temperatures against time, with the limits checked (red)."))
+    out.append(("temperature", _png(fig), "Gas and wall temperatures against time (the integrator's solution at "
+                "every step), the located extremum of the gas temperature, and the limits checked, each labelled "
+                "on its line."))
     fig = _figure(8.0, 3.4)
     ax = fig.add_subplot(1, 1, 1)
-    ax.plot(t, np.asarray(r.mass, dtype=float), color="#2e7d32", lw=1.8, label="mass in the vessel")
+    t, mass = _series(r, "mass")
+    ax.plot(t, mass, color="#2e7d32", lw=1.8, label="mass in the vessel")
     _finish(ax, "time  [s]", "mass  [kg]")
     out.append(("mass", _png(fig), "Mass of gas in the vessel against time."))
     return out

@@ -14,6 +14,14 @@ state of charge, liquefied-gas figures, cascade banks, time-resolved
 peaks); the energy and mass balance with its closure; the limits checked
 and those passed (in a caution box); the plots; and the balance trace.
 
+Where things are: the page shell here - :class:`Report` (a list of
+:class:`Block` rendered by ``Report.to_html()`` / ``Report.to_markdown()``,
+with its styles and the caution texts ``CAUTION_TITLE``/``CAUTION_TEXT``),
+which other reports (studies) reuse - and the assembly (:func:`build_report`,
+:func:`render_report`, :func:`write_report`); the words, inputs and limits in
+:mod:`eosfill.io.report_words`; the model, results and balance sections in
+:mod:`eosfill.io.report_sections`; the plots in :mod:`eosfill.io.plots`.
+
 Plots need matplotlib (drawn with its Agg canvas, imported on first use);
 without it :func:`write_report` raises :class:`eosfill.errors.EosfillError`
 saying so.  The two-phase region of a mixture takes a few seconds
@@ -25,14 +33,15 @@ local codes, the vessel's approval documents and licensed practice govern.
 from __future__ import annotations
 
 import base64
-import functools
 import html
-import math
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
+# the report's sections, importable from here as before
+from eosfill.io.report_sections import (REFERENCE_STATE, balance_blocks, result_blocks,  # noqa: F401
+                                        source_blocks)
+from eosfill.io.report_words import (_Fmt, input_rows, input_tables, job_paragraph,  # noqa: F401
+                                     limit_blocks)
 
 
 CAUTION_TITLE = "Caution"
@@ -40,8 +49,7 @@ CAUTION_TEXT = ("Results are estimates from an equation of state and simplified 
                 "(adiabatic, lumped-wall or constant-coefficient). Local codes, the vessel's approval "
                 "documents and licensed practice govern. Check the model's density error for your gas "
                 "before trusting a mass.")
-REFERENCE_STATE = ("Reference state: each component as ideal gas with H = 0 and S = 0 at 298.15 K and "
-                   "101 325 Pa (enthalpies, internal energies and entropies in this report are relative to it).")
+
 # --------------------------------------------------------------------------
 # blocks of a report
 # --------------------------------------------------------------------------
@@ -103,7 +111,8 @@ class Report:
                 out.append(f"<p>{e(b.text)}</p>")
             elif b.kind == "caution":
                 items = "".join(f"<li>{e(x)}</li>" for x in b.lines)
-                out.append(f'<div class="box {b.tone}" role="note"><p class="boxtitle">&#9888; {e(b.text)}</p>'
+                mark = "&#9888; " if b.tone in ("caution", "limits") else ""  # a warning sign only where one is due
+                out.append(f'<div class="box {b.tone}" role="note"><p class="boxtitle">{mark}{e(b.text)}</p>'
                            f"<ul>{items}</ul></div>")
             elif b.kind == "table":
                 cap = f"<caption>{e(b.text)}</caption>" if b.text else ""
@@ -128,7 +137,8 @@ class Report:
             elif b.kind == "para":
                 out += [_md(b.text), ""]
             elif b.kind == "caution":
-                out.append(f"> **⚠ {_md(b.text)}**")
+                mark = "⚠ " if b.tone in ("caution", "limits") else ""
+                out.append(f"> **{mark}{_md(b.text)}**")
                 out.append(">")
                 out += [f"> * {_md(x)}" for x in b.lines]
                 out.append("")
@@ -158,12 +168,21 @@ th{background:#eee}
 tbody tr:nth-child(even){background:#fafafa}
 .box{border:3px solid #b36b00;background:#fff4e0;padding:.4em 1em;margin:1em 0;border-radius:4px}
 .box.limits{border-color:#b00020;background:#ffe9ec}
-.box.ok{border-color:#2e7d32;background:#eef7ee}
+.box.neutral{border-color:#777;background:#f4f4f4}
+.box.note{border-color:#8a6d00;background:#fffbe6}
 .boxtitle{font-weight:bold;margin:.3em 0}
 figure{margin:1em 0}
 figure img{max-width:100%;border:1px solid #ccc}
 figcaption{font-size:.9em;color:#444}
 pre{font-size:.8em;background:#f6f6f6;padding:.6em;overflow-x:auto}
+table{min-width:24em;max-width:100%}
+td{overflow-wrap:break-word}
+@page{size:A4;margin:14mm}
+@media print{body{max-width:none;margin:0;padding:0;font-size:10pt}
+figure,table,.box,pre{break-inside:avoid}
+h2,h3,caption{break-after:avoid}
+details{display:block}
+pre{white-space:pre-wrap;font-size:7pt}}
 """
 
 
@@ -176,462 +195,6 @@ def _cell(text):
 
 
 # --------------------------------------------------------------------------
-# formatting
-# --------------------------------------------------------------------------
-class _Fmt:
-    """Numbers in the scenario's units and digits (engineering: bar, °C, L, kg)."""
-
-    def __init__(self, scenario):
-        out = scenario.output
-        self.digits = int(out.digits) if out is not None else 6
-        self.si = out is not None and out.units == "SI"
-
-    def q(self, value, kind):
-        from eosfill.io.units import format_quantity
-
-        if value is None:
-            return "—"
-        if isinstance(value, float) and not math.isfinite(value):
-            return "n/a"
-        if self.si:
-            unit = {"pressure": "Pa", "temperature": "K", "volume": "m**3", "mass": "kg", "time": "s",
-                    "density": "kg/m**3", "length": "m", "mass_flow": "kg/s", "pressure_rate": "Pa/s"}.get(kind)
-            return format_quantity(value, kind, unit=unit, digits=self.digits)
-        return format_quantity(value, kind, digits=self.digits)
-
-    def T(self, value):
-        """Temperature with both °C and K (engineering) or K (SI)."""
-        if value is None:
-            return "—"
-        if self.si:
-            return self.q(value, "temperature")
-        return f"{self.q(value, 'temperature')} ({self.n(value)} K)"
-
-    def n(self, value, digits=None):
-        from eosfill.io.units import format_number
-
-        if value is None:
-            return "—"
-        return format_number(value, digits or self.digits)
-
-    def energy(self, value):
-        return f"{self.n(value / 1e3)} kJ"
-
-
-def _comp_text(comp):
-    if not comp:
-        return "—"
-    if len(comp) == 1:
-        return next(iter(comp))
-    return ", ".join(f"{k} {v:.6g}" for k, v in comp.items())
-
-
-# --------------------------------------------------------------------------
-# the report's sections
-# --------------------------------------------------------------------------
-_STOP_WORDS = {
-    "target_pressure": ("the pressure reaches {}", "pressure"),
-    "target_mass": ("the vessel holds {}", "mass"),
-    "target_settled_pressure": ("the content, cooled to the settled temperature, would be at {}", "pressure"),
-    "target_fill_density": ("the filling density (mass/volume) reaches {}", "density"),
-}
-
-
-def _stop_words(scenario, fmt):
-    s = scenario.stop
-    parts = []
-    for key, (words, kind) in _STOP_WORDS.items():
-        val = getattr(s, key)
-        if val is not None:
-            if kind == "density":
-                parts.append(words.format(f"{fmt.n(val / 1e3)} kg/L"))
-            else:
-                parts.append(words.format(fmt.q(val, kind)))
-    if s.supply_pressure:
-        parts.append("the vessel reaches the supply (or last bank) pressure")
-    if s.temperature_limit is not None:
-        word = "falls to" if scenario.kind in ("vent", "transient_vent") else "rises to"
-        parts.append(f"the gas temperature {word} {fmt.q(s.temperature_limit, 'temperature')}")
-    if not parts and scenario.transient is not None:
-        parts.append(f"{fmt.q(scenario.transient.duration, 'time')} have passed")
-    return " or ".join(parts)
-
-
-def job_paragraph(scenario, fmt=None):
-    """The job stated in one paragraph of plain words."""
-    fmt = fmt or _Fmt(scenario)
-    sc = scenario
-    v = sc.vessel
-    fs = sc.fluid_spec
-    vessel = f"a rigid vessel{' (' + v.name + ')' if v.name else ''} of {fmt.q(v.volume, 'volume')}"
-    if v.wall_mass is not None and v.wall_specific_heat is not None:
-        vessel += (f" whose wall ({fmt.q(v.wall_mass, 'mass')}, {fmt.n(v.wall_specific_heat)} J/(kg K)) "
-                   "exchanges heat with the gas")
-    ini = sc.initial
-    if ini.empty:
-        holds = "is empty (evacuated)"
-    else:
-        comp = _comp_text(ini.composition or fs.composition)
-        amount = fmt.q(ini.pressure, "pressure") if ini.pressure is not None else fmt.q(ini.mass, "mass")
-        holds = f"holds {comp} at {fmt.q(ini.temperature, 'temperature')} and {amount}"
-    kind = sc.kind
-    time_resolved = kind.startswith("transient")
-    if kind in ("vent", "transient_vent"):
-        what = "is vented"
-        if sc.transient is not None:
-            what += (f" through a {sc.transient.restriction.type.replace('_', ' ')} to "
-                     f"{fmt.q(sc.transient.back_pressure or sc.ambient.pressure, 'pressure')}")
-    elif sc.supply is not None:
-        what = (f"is filled from a supply of {_comp_text(sc.supply.composition or fs.composition)} at "
-                f"{fmt.q(sc.supply.temperature, 'temperature')} and {fmt.q(sc.supply.pressure, 'pressure')}")
-        if kind == "liquefied_fill":
-            what += " (a liquefied gas: the content may be two-phase)"
-    else:
-        banks = "; ".join(f"{b.name or i + 1}: {fmt.q(b.volume, 'volume')} at {fmt.q(b.pressure, 'pressure')}, "
-                          f"{fmt.q(b.temperature, 'temperature')}" for i, b in enumerate(sc.banks))
-        what = (f"is filled from {len(sc.banks)} storage bank{'s' if len(sc.banks) > 1 else ''} used in turn "
-                f"({banks}), switching when a bank leads the vessel by "
-                f"{fmt.q(sc.cascade.switch_pressure_difference, 'pressure')}")
-    if time_resolved and kind == "transient_fill" and sc.transient is not None:
-        what += f" through a {sc.transient.restriction.type.replace('_', ' ')}"
-    model = {"PR": "Peng–Robinson (1976)", "PR78": "Peng–Robinson (1978 κ)", "SRK": "Soave–Redlich–Kwong (1972)"}
-    how = ("followed in time" if time_resolved else "computed as an end state from the mass and energy balances "
-           "(no time involved)")
-    return (f"{vessel[0].upper() + vessel[1:]} {holds}. It {what}, until {_stop_words(sc, fmt)}. "
-            f"The run is {how}, with the {model.get(fs.model, fs.model)} equation of state"
-            + (f" (title: {sc.title})." if sc.title else "."))
-
-
-_INPUT_KINDS = {
-    "volume": "volume", "wall_mass": "mass", "mass": "mass", "wall_specific_heat": "specific_heat",
-    "internal_area": "area", "external_area": "area", "working_pressure": "pressure",
-    "working_temperature": "temperature", "temperature": "temperature", "pressure": "pressure",
-    "wall_temperature": "temperature", "target_pressure": "pressure", "target_mass": "mass",
-    "target_settled_pressure": "pressure", "settled_temperature": "temperature",
-    "target_fill_density": "density", "temperature_limit": "temperature",
-    "max_gas_temperature": "temperature", "min_gas_temperature": "temperature",
-    "max_wall_temperature": "temperature", "min_wall_temperature": "temperature", "max_pressure": "pressure",
-    "max_fill_density": "density", "switch_pressure_difference": "pressure", "duration": "time",
-    "output_interval": "time", "back_pressure": "pressure", "diameter": "length", "mass_flow": "mass_flow",
-    "rate": "pressure_rate", "inner_coefficient": "heat_transfer_coefficient",
-    "outer_coefficient": "heat_transfer_coefficient",
-}
-
-
-def _input_value(fmt, key, value):
-    if value is None:
-        return None
-    if key in ("composition",) and isinstance(value, dict):
-        return _comp_text(value) + (" (mole fractions)" if len(value) > 1 else "")
-    kind = _INPUT_KINDS.get(key)
-    if kind == "temperature":
-        return fmt.T(value)
-    if kind == "switch_pressure_difference" or key == "switch_pressure_difference":
-        return fmt.q(value, "pressure")
-    if kind == "density":
-        return f"{fmt.n(value)} kg/m³ ({fmt.n(value / 1e3)} kg/L)"
-    if kind is not None:
-        return fmt.q(value, kind)
-    if isinstance(value, float):
-        return fmt.n(value)
-    return str(value)
-
-
-def input_rows(scenario, fmt=None):
-    """(key path, value with unit) for every input given or defaulted, from the Scenario (SI inside)."""
-    from dataclasses import fields
-
-    fmt = fmt or _Fmt(scenario)
-    sc = scenario
-    rows = [("kind", sc.kind)]
-    if sc.title:
-        rows.append(("title", sc.title))
-    fs = sc.fluid_spec
-    rows += [("fluid.composition", _input_value(fmt, "composition", fs.composition)), ("fluid.model", fs.model),
-             ("fluid.volume_shift", fs.volume_shift)]
-    for k in fs.kij:
-        rows.append((f"fluid.kij[{k.pair[0]}, {k.pair[1]}]", fmt.n(k.kij)))
-
-    def section(name, obj, skip=()):
-        if obj is None:
-            return
-        for f in fields(obj):
-            if f.name in skip or f.name.startswith("_"):
-                continue
-            val = getattr(obj, f.name)
-            if val is None or val == "" or val is False:
-                continue
-            if isinstance(val, (list, tuple)) and not val:
-                continue
-            shown = _input_value(fmt, f.name, val)
-            if shown is not None:
-                rows.append((f"{name}.{f.name}", shown))
-
-    section("vessel", sc.vessel)
-    section("initial", sc.initial)
-    section("supply", sc.supply)
-    for i, b in enumerate(sc.banks):
-        section(f"banks[{i + 1}]", b)
-    if sc.kind == "cascade_fill" or sc.banks:
-        section("cascade", sc.cascade)
-    section("stop", sc.stop, skip=("settled_temperature",) if sc.kind in ("vent", "transient_vent") else ())
-    section("ambient", sc.ambient)
-    section("limits", sc.limits)
-    if sc.transient is not None:
-        section("transient", sc.transient, skip=("restriction", "heat_transfer", "output_times"))
-        section("transient.restriction", sc.transient.restriction)
-        section("transient.heat_transfer", sc.transient.heat_transfer)
-    return rows
-
-
-@functools.lru_cache(maxsize=1)
-def _source_citations():
-    """{key: citation} from data/SOURCES.md (empty if the file is not found)."""
-    from eosfill.model.components import data_dir
-
-    out = {}
-    for cand in (Path(data_dir()) / "SOURCES.md", Path(data_dir()).parent / "SOURCES.md"):
-        if cand.is_file():
-            for line in cand.read_text(encoding="utf-8").splitlines():
-                m = re.match(r"^\|\s*([^|]+?)\s*\|\s*(.+?)\s*\|\s*$", line)
-                if m and m.group(1) not in ("key", "---"):
-                    out[m.group(1)] = m.group(2)
-            break
-    return out
-
-
-def _cite(key):
-    cit = _source_citations()
-    k = str(key)
-    if k in cit:
-        return cit[k]
-    if k.startswith("fit:"):
-        base = cit.get(k[4:], "")
-        return f"fit of the Poling polynomial to the reference equation {k[4:]}" + (f": {base}" if base else "")
-    return ""
-
-
-def source_blocks(rep, scenario, fmt):
-    fluid = scenario.fluid()
-    model = fluid.model
-    rep.heading("Model and data sources")
-    rep.para(f"Equation of state: {model.name} — {model.citation}. Mixing: van der Waals one-fluid rule with "
-             "binary interaction parameters k_ij (Michelsen & Mollerup 2007, ch. 3). Ideal-gas heat capacity: "
-             "Poling, Prausnitz & O'Connell (2001) polynomial form.")
-    rep.para(REFERENCE_STATE)
-    rows = []
-    keys = []
-    for c in fluid.components:
-        rows.append([c.name, f"{c.Tc:.6g}", f"{c.Pc / 1e5:.6g}", f"{c.omega:.5g}", f"{c.M * 1e3:.6g}",
-                     c.crit_source, c.cp_source, f"{c.cp_Tmin:g}–{c.cp_Tmax:g}"])
-        keys += [c.crit_source, c.cp_source]
-    rep.table(["component", "Tc K", "Pc bar", "ω", "M g/mol", "critical data", "Cp° data", "Cp° range K"], rows,
-              "Component constants and the keys of their sources")
-    if fluid.nc > 1:
-        krows = []
-        for i in range(fluid.nc):
-            for j in range(i + 1, fluid.nc):
-                a, b = fluid.names[i], fluid.names[j]
-                src = fluid.kij_sources.get((a, b), fluid.kij_sources.get((b, a), ""))
-                krows.append([f"{a} – {b}", fmt.n(float(fluid.kij[i, j])), src])
-                keys.append(src.split(" ")[0])
-        rep.table(["pair", "k_ij", "source"], krows, f"Binary interaction parameters ({model.name})")
-    crows = []
-    for k in dict.fromkeys(keys):
-        cit = _cite(k)
-        if cit:
-            crows.append([k, cit])
-    if crows:
-        rep.table(["key", "citation"], crows, "Citations of the data keys (data/SOURCES.md)")
-
-
-def _state_rows(fmt, states, V):
-    """Rows of a side-by-side table of EndStates (label, state)."""
-    rows = [["temperature"] + [fmt.T(s.T) for _, s in states],
-            ["pressure"] + [fmt.q(s.P, "pressure") for _, s in states],
-            ["mass"] + [fmt.q(s.mass, "mass") for _, s in states],
-            ["amount"] + [f"{fmt.n(s.n)} mol" for _, s in states],
-            ["density (mass / vessel volume)"] + [f"{fmt.n(s.mass / V)} kg/m³" for _, s in states],
-            ["phase"] + [s.phase for _, s in states]]
-    if any(s.wall_temperature is not None for _, s in states):
-        rows.append(["wall temperature"] + [fmt.T(s.wall_temperature) for _, s in states])
-    if any(len(s.composition) > 1 for _, s in states):
-        rows.append(["composition (mole fractions)"] + [_comp_text(s.composition) for _, s in states])
-    if any(s.phase == "two-phase" for _, s in states):
-        rows += [["liquid mass"] + [fmt.q(s.liquid_mass, "mass") for _, s in states],
-                 ["vapour mass"] + [fmt.q(s.vapour_mass, "mass") for _, s in states],
-                 ["liquid volume fraction"] + [fmt.n(s.liquid_volume_fraction, 4) for _, s in states]]
-    return rows
-
-
-def result_blocks(rep, scenario, result, fmt):
-    from eosfill.vessel.balances import Result
-
-    rep.heading("Results")
-    if not isinstance(result, Result):
-        return _transient_blocks(rep, scenario, result, fmt)
-    r = result
-    stop = f"Stopped by: {r.stop}"
-    if r.stop != r.stop_requested:
-        stop += f" (asked: {r.stop_requested}, {'met' if r.stop_met else 'NOT MET'})"
-    rep.para(stop + ".")
-    states = ([("initial", r.initial)] if r.initial is not None else []) + [("final", r.final)]
-    rep.table(["", *[k for k, _ in states]], _state_rows(fmt, states, r.volume),
-              "Vessel content at the start and at the end" + ("" if r.initial is not None else
-                                                               " (the vessel starts empty)"))
-    if r.supply:
-        rep.para(f"Supply: {fmt.T(r.supply['T'])}, {fmt.q(r.supply['P'], 'pressure')}, phase "
-                 f"{r.supply['phase']}, molar enthalpy {fmt.n(r.supply['h'])} J/mol (it enters with this "
-                 "enthalpy: a throttle or regulator is isenthalpic).")
-    if r.settled is not None:
-        s = r.settled
-        rows = [["settled temperature", fmt.T(s.T)], ["settled pressure", fmt.q(s.P, "pressure")],
-                ["phase when settled", s.phase]]
-        if s.nominal_pressure is not None:
-            rows += [["nominal (working) pressure", fmt.q(s.nominal_pressure, "pressure")],
-                     ["mass of a fill to the nominal pressure at the settled temperature", fmt.q(s.nominal_mass, "mass")],
-                     ["short fill (that mass minus the mass held)", fmt.q(s.short_fill, "mass")]]
-        if s.state_of_charge is not None:
-            rows.append([f"state of charge (density relative to {fmt.q(s.nominal_pressure, 'pressure')} at "
-                         f"{fmt.q(s.nominal_temperature, 'temperature')})", f"{100 * s.state_of_charge:.4g} %"])
-        rep.table(["settled state (same content, constant volume)", "value"], rows,
-                  "Settled state, short fill and state of charge (V7)")
-    if r.liquefied:
-        q = r.liquefied
-        rows = [["filling density", f"{fmt.n(q['fill_density'] / 1e3)} kg/L"],
-                ["liquid mass", fmt.q(q.get("liquid_mass"), "mass")],
-                ["vapour mass", fmt.q(q.get("vapour_mass"), "mass")],
-                ["liquid volume fraction", fmt.n(q.get("liquid_volume_fraction"), 4)
-                 if q.get("liquid_volume_fraction") is not None else "—"]]
-        if q.get("liquid_full_T") is not None:
-            rows.append(["liquid-full (hydraulically full) on warming at", fmt.T(q["liquid_full_T"])])
-        elif q.get("dry_T") is not None:
-            rows.append(["never liquid-full on warming: the liquid is gone at", fmt.T(q["dry_T"])])
-        else:
-            rows.append(["on warming", q.get("liquid_full_note", "")])
-        if q.get("default_max_fill_density") is not None:
-            rows.append(["default filling-density limit (to confirm)", f"{fmt.n(q['default_max_fill_density'] / 1e3)} kg/L"])
-        rep.table(["liquefied gas", "value"], rows, "Liquefied-gas figures")
-        for line in q.get("defaults", []):
-            rep.para(line)
-    if r.stages:
-        rows = []
-        for st in r.stages:
-            rows.append([st["bank"], st["reason"], fmt.q(st["mass_drawn"], "mass"), fmt.T(st["bank_T"]),
-                         fmt.q(st["bank_P"], "pressure"), fmt.T(st["vessel_T"]), fmt.q(st["vessel_P"], "pressure"),
-                         fmt.q(st["vessel_mass"], "mass")])
-        rep.table(["bank", "ended", "mass delivered", "bank temperature after", "bank pressure after",
-                   "vessel temperature after", "vessel pressure after", "vessel mass after"], rows,
-                  "Cascade: each bank in turn (V6)")
-    if r.comparison:
-        c = r.comparison
-        rep.para(f"The same fill from one bank instead ({c['description']}): vessel {fmt.T(c['T'])}, "
-                 f"{fmt.q(c['P'], 'pressure')}, {fmt.q(c['mass'], 'mass')}; stopped by {c['stop']}; the bank ends "
-                 f"at {fmt.q(c['bank_P'], 'pressure')}.")
-    if r.vent:
-        v = r.vent
-        rows = [["mass let out", fmt.q(v["mass_out"], "mass")],
-                ["lowest gas temperature (a safety figure for the vessel's material)", fmt.T(v["min_T"])],
-                ["liquid formed", "yes, first at " + fmt.q(v["dew_P"], "pressure") if v["liquid_formed"] else "no"]]
-        rep.table(["vent", "value"], rows, "Vent")
-    for n in r.notes:
-        rep.para("Model choice: " + n + ".")
-
-
-def _transient_blocks(rep, scenario, r, fmt):
-    rep.para(f"Time-resolved {r.kind}: {'complete' if r.complete else 'INCOMPLETE (integration stopped early)'}; "
-             f"stop: {r.stop_reason}; duration {fmt.q(float(r.t[-1]), 'time')}.")
-    rows = [["pressure", fmt.q(float(r.P[0]), "pressure"), fmt.q(float(r.P[-1]), "pressure")],
-            ["gas temperature", fmt.T(float(r.T_gas[0])), fmt.T(float(r.T_gas[-1]))],
-            ["mass", fmt.q(float(r.mass[0]), "mass"), fmt.q(float(r.mass[-1]), "mass")]]
-    if np.isfinite(r.T_wall_inner).any():
-        rows.append(["inner wall temperature", fmt.T(float(r.T_wall_inner[0])), fmt.T(float(r.T_wall_inner[-1]))])
-        rows.append(["outer wall temperature", fmt.T(float(r.T_wall_outer[0])), fmt.T(float(r.T_wall_outer[-1]))])
-    rows.append(["phase", str(r.phase[0]), str(r.phase[-1])])
-    rep.table(["", "start", "end"], rows, "Vessel content at the start and at the end")
-    prow = []
-    for name, label in (("P", "pressure"), ("T_gas", "gas temperature"), ("T_wall_inner", "inner wall temperature"),
-                        ("T_wall_outer", "outer wall temperature")):
-        hi, thi = r.peak(name, "max")
-        lo, tlo = r.peak(name, "min")
-        if not math.isfinite(hi):
-            continue
-        f = (lambda x: fmt.q(x, "pressure")) if name == "P" else fmt.T
-        prow.append([label, f(hi), fmt.q(thi, "time"), f(lo), fmt.q(tlo, "time")])
-    rep.table(["series", "highest", "at", "lowest", "at"], prow, "Peaks over the run")
-    if r.liquid_appeared:
-        rep.para("A liquid phase appears during the run (homogeneous equilibrium assumed).")
-
-
-def balance_blocks(rep, scenario, result, fmt, trace_lines=None):
-    from eosfill.vessel.balances import Result
-
-    rep.heading("Energy and mass balance")
-    if not isinstance(result, Result):
-        m0, m1 = float(result.mass[0]), float(result.mass[-1])
-        rows = [["initial mass m_0", fmt.q(m0, "mass")], ["mass in", fmt.q(result.mass_in, "mass")],
-                ["mass out", fmt.q(result.mass_out, "mass")],
-                ["m_0 + in - out", fmt.q(m0 + result.mass_in - result.mass_out, "mass")],
-                ["final mass", fmt.q(m1, "mass")],
-                ["heat from the surroundings", fmt.energy(result.heat_from_ambient)],
-                ["mass closure (relative, largest over the run)", f"{result.mass_closure:.3e}"],
-                ["energy closure (relative, largest over the run, (T3))", f"{result.energy_closure:.3e}"]]
-        rep.table(["term", "value"], rows, "Balances of the time-resolved run (T3)")
-        return
-    r = result
-    e = r.energy
-    rows = []
-    if trace_lines:
-        from eosfill.io.trace import trace_value
-
-        keys = [("nf_uf", "n_f u_f (final internal energy)"), ("n0_u0", "n_0 u_0 (initial internal energy)"),
-                ("wall", "C_w (T_f − T_w0) (taken up by the wall)"), ("H_in", "enthalpy brought in"),
-                ("H_out", "enthalpy let out H_out"), ("Q", "heat added Q"), ("lhs", "left side"),
-                ("rhs", "right side"), ("residual", "left − right")]
-        for k, label in keys:
-            try:
-                val = trace_value(trace_lines, k)
-            except KeyError:
-                continue
-            rows.append([label, f"{val:.10g} J"])
-        eq = ("n_f u_f − n_0 u_0 + C_w (T_f − T_0) = −H_out   (V4)/(V5)" if r.kind == "vent" else
-              "n_f u_f − n_0 u_0 + C_w (T_f − T_w0) = Σ_k H_k + Q   (V2), (V6)" if r.kind == "cascade_fill" else
-              "n_f u_f − n_0 u_0 + C_w (T_f − T_w0) = (n_f − n_0) h_in + Q   (V2)")
-        rep.para("Energy balance of the vessel: " + eq + ". Each term recomputed from the result's end "
-                 "states (the full substitution is in the calculation trace at the end).")
-    else:
-        for k, v in e.items():
-            rows.append([k, f"{v:.10g}"])
-    rows.append(["energy closure (relative to n R T, from the solver)", f"{r.energy_closure:.3e}"])
-    rows.append(["mass closure (relative)", f"{r.mass_closure:.3e}"])
-    rep.table(["term", "value"], rows, "Energy and mass balance closure")
-
-
-def _limits_checked(scenario):
-    from dataclasses import asdict
-
-    return {k: v for k, v in asdict(scenario.limits).items() if v is not None}
-
-
-def limit_blocks(rep, scenario, result, fmt):
-    rep.heading("Limits")
-    lim = _limits_checked(scenario)
-    checked = []
-    for k, v in lim.items():
-        kind = _INPUT_KINDS.get(k)
-        checked.append(f"{k} = {_input_value(fmt, k, v) if kind else fmt.n(v)}")
-    flags = list(result.flags)
-    if flags:
-        rep.caution(f"{len(flags)} limit{'s' if len(flags) > 1 else ''} or warning{'s' if len(flags) > 1 else ''} "
-                    "PASSED", flags, tone="limits")
-    else:
-        rep.caution("No limit passed", ["none of the limits checked was passed"], tone="ok")
-    rep.para("Limits checked: " + ("; ".join(checked) if checked else "none given") + ". The −40 °C / 85 °C gas "
-             "temperature defaults are common values (from memory), not what any vessel is approved for; give "
-             "the vessel's own limits.")
-
-
-# --------------------------------------------------------------------------
 # the whole report
 # --------------------------------------------------------------------------
 def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
@@ -641,20 +204,24 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
     fmt = _Fmt(scenario)
     title = scenario.title or (scenario.path.stem if scenario.path else "eosfill result")
     rep = Report(title)
-    rep.caution(CAUTION_TITLE, [CAUTION_TEXT, "Flags below mark limits passed; they do not stop a real fill."])
+    word = "vent" if scenario.kind in ("vent", "transient_vent") else "fill"
+    rep.caution(CAUTION_TITLE, [CAUTION_TEXT, f"Limits below are checked on the computed figures; passing one "
+                                f"does not stop the calculation, nor a real {word}."])
     rep.heading("The job")
-    rep.para(job_paragraph(scenario, fmt))
+    rep.para(job_paragraph(scenario, fmt, result))
     if scenario.description:
         rep.para(scenario.description)
     limit_blocks(rep, scenario, result, fmt)
     rep.heading("Inputs")
     rep.table(["input", "value (SI inside; shown in engineering units)"], input_rows(scenario, fmt),
               "Inputs as read from the scenario, defaults included")
+    input_tables(rep, scenario, fmt)
     source_blocks(rep, scenario, fmt)
     result_blocks(rep, scenario, result, fmt)
     balance_blocks(rep, scenario, result, fmt, trace_lines)
     if plots:
-        from eosfill.io.plots import plot_cascade, plot_path, plot_time_series
+        from eosfill.io.plots import plot_cascade, plot_time_series
+        from eosfill.io.plots_path import plot_path
 
         rep.heading("Plots")
         if not isinstance(result, Result):
@@ -683,7 +250,7 @@ def build_report(scenario, result, trace_lines=None, plots=True) -> Report:
 def balance_trace(scenario, result):
     """The balance trace of a steady result (None for time-resolved results or on failure)."""
     from eosfill.io.inputs import _vessel_of
-    from eosfill.io.trace import trace_fill
+    from eosfill.io.trace_fill import trace_fill
     from eosfill.vessel.balances import Result
 
     if not isinstance(result, Result):
@@ -692,31 +259,31 @@ def balance_trace(scenario, result):
     return trace_fill(scenario.fluid(), result, v.wall_heat_capacity, v.wall_temperature)
 
 
-def write_report(scenario, result, path, trace=True):
-    """Write ``path`` (HTML, self-contained) and its Markdown twin (same name, ``.md``).
-
-    The Markdown's plots are written beside it as ``<stem>.<plot>.png``.
-    Returns the list of files written.
-    """
+def render_report(scenario, result, path, trace=True) -> dict:
+    """{path: bytes} of the HTML report at ``path``, its Markdown twin (same
+    name, ``.md``) and the Markdown's plots (``<stem>.<plot>.png``); nothing written."""
+    from eosfill.io.files import report_companions
     from eosfill.io.plots import require_matplotlib
 
     require_matplotlib()
     path = Path(path)
     lines = balance_trace(scenario, result) if trace else None
     rep = build_report(scenario, result, trace_lines=lines)
-    html_text = rep.to_html()
-    md_path = path.with_suffix(".md")
-    if md_path == path:
-        md_path = path.with_name(path.name + ".md")
-    files = {}
+    names = {fig.name: f"{path.stem}.{fig.name}.png" for fig in rep.figures}
+    files = {path: rep.to_html().encode("utf-8"),
+             report_companions(path): rep.to_markdown(names).encode("utf-8")}
     for fig in rep.figures:
-        files[fig.name] = f"{path.stem}.{fig.name}.png"
-    md_text = rep.to_markdown(files)
-    written = []
-    for fig in rep.figures:
-        p = path.parent / files[fig.name]
-        p.write_bytes(fig.png)
-        written.append(p)
-    path.write_text(html_text, encoding="utf-8")
-    md_path.write_text(md_text, encoding="utf-8")
-    return [path, md_path, *written]
+        files[path.parent / names[fig.name]] = fig.png
+    return files
+
+
+def write_report(scenario, result, path, trace=True, force=True):
+    """Write ``path`` (HTML, self-contained) and its Markdown twin (same name, ``.md``).
+
+    The Markdown's plots are written beside it as ``<stem>.<plot>.png``; all
+    files or none (:func:`eosfill.io.files.commit`).  Returns the list of files written.
+    """
+    from eosfill.io.files import commit
+
+    return commit(render_report(scenario, result, path, trace), force=force,
+                  scenario_path=getattr(scenario, "path", None))

@@ -13,7 +13,7 @@ from eosfill.io.scenario import TRANSIENT_KINDS
 from eosfill.io.units import STANDARD_ATMOSPHERE
 from eosfill.transient import flow as _flow
 from eosfill.transient.heat import LayeredWall, LumpedWall
-from eosfill.transient.model import Bank, IntegrationError, Reservoir, simulate
+from eosfill.transient.model import Bank, Reservoir, simulate
 
 
 def run_scenario(scenario, progress=None):
@@ -21,9 +21,9 @@ def run_scenario(scenario, progress=None):
 
     ``progress``: callable(t) after each integration step (see :func:`simulate`).
 
-    Returns a :class:`TransientResult` whose ``str()`` is the printed summary.
-    Writes ``[output] json`` / ``csv`` when given; on an integration failure
-    the partial result is written too and :class:`IntegrationError` re-raised.
+    Returns a :class:`TransientResult` (data; :mod:`eosfill.io.summaries`
+    renders it).  Writes nothing: :func:`eosfill.io.jobs.run_scenario` writes
+    the outputs (and a partial result's on an :class:`IntegrationError`).
     """
     sc = scenario
     if sc.kind not in TRANSIENT_KINDS:
@@ -94,19 +94,13 @@ def run_scenario(scenario, progress=None):
     # the scenario's own summary is printed by the caller; add what the run adds
     desc = [f"restriction: {restriction.describe()}",
             f"heat transfer: {'adiabatic' if wall is None else wall.describe()}"]
-    try:
-        res = simulate(fluid, sc.vessel.volume, mode=mode, initial_composition=x0, restriction=restriction,
-                       supply=supply, back_pressure=tr.back_pressure if tr.back_pressure is not None
-                       else (sc.ambient.pressure or STANDARD_ATMOSPHERE), wall=wall, inner_coefficient=inner,
-                       outer_coefficient=ht.outer_coefficient if wall is not None else 0.0,
-                       ambient_temperature=sc.ambient.temperature,
-                       initial_wall_temperature=ini.wall_temperature, duration=tr.duration,
-                       target_pressure=stop.target_pressure, target_mass=target_mass,
-                       temperature_limit=stop.temperature_limit, output_times=out_times,
-                       switch_pressure_difference=sc.cascade.switch_pressure_difference,
-                       limits=limits, rtol=tr.rtol, description=desc, progress=progress, **kw)
-    except IntegrationError as exc:
-        exc.partial.write(sc.output.json, sc.output.csv)
-        raise
-    res.write(sc.output.json, sc.output.csv)
-    return res
+    return simulate(fluid, sc.vessel.volume, mode=mode, initial_composition=x0, restriction=restriction,
+                    supply=supply, back_pressure=tr.back_pressure if tr.back_pressure is not None
+                    else (sc.ambient.pressure or STANDARD_ATMOSPHERE), wall=wall, inner_coefficient=inner,
+                    outer_coefficient=ht.outer_coefficient if wall is not None else 0.0,
+                    ambient_temperature=sc.ambient.temperature,
+                    initial_wall_temperature=ini.wall_temperature, duration=tr.duration,
+                    target_pressure=stop.target_pressure, target_mass=target_mass,
+                    temperature_limit=stop.temperature_limit, output_times=out_times,
+                    switch_pressure_difference=sc.cascade.switch_pressure_difference,
+                    limits=limits, rtol=tr.rtol, description=desc, progress=progress, **kw)

@@ -124,6 +124,55 @@ def _tidy_unit(text: str) -> str:
     return _EXPONENT.sub(r"\1**\2", text)
 
 
+# Upper bounds of what eosfill accepts, each with its physical reason: beyond them
+# the question is not a vessel fill or vent, and the models do not apply.  The
+# reasons are order-of-magnitude facts of the trade (common practice, no source).
+UPPER_LIMITS = {
+    "pressure": (1e9, "1000 MPa is far above the pressure of any gas vessel, and beyond what a cubic "
+                      "equation of state represents"),
+    "temperature": (2000.0, "the ideal-gas heat-capacity fits end at 1000-1500 K and no vessel is filled "
+                            "or vented this hot"),
+    "volume": (1e5, "100 000 m³ is larger than the largest gas-storage vessels built"),
+    "mass": (1e8, "100 000 t is more than any single pressure vessel holds"),
+    "length": (100.0, "100 m is longer than any vessel dimension, wall or bore"),
+    "area": (1e5, "100 000 m² is larger than the surface of any pressure vessel"),
+    "time": (3.2e7, "about one year: far longer than any fill or vent"),
+    "mass_flow": (1e4, "10 t/s is more than any fill or vent line carries"),
+    "pressure_rate": (1e8, "1000 bar/s is faster than any controlled fill or vent"),
+    "heat_transfer_coefficient": (1e6, "1e6 W/(m² K) is above condensing or boiling heat transfer"),
+    "specific_heat": (1e5, "100 kJ/(kg K) is above the specific heat of any solid or liquid"),
+    "density": (3e4, "30 000 kg/m³ is denser than any element (osmium: 22 590 kg/m³)"),
+    "thermal_conductivity": (1e4, "10 000 W/(m K) is above the conductivity of diamond"),
+}
+
+
+def range_error(key_path, raw, value, kind, why):
+    """The InputError of a value out of its range, in one wording for files and the command line."""
+    shown = "" if raw is None else f" = {raw!r}"
+    return InputError(key_path, raw, why, message=f"{key_path}{shown}: {why}")
+
+
+def check_range(key_path, raw, value, kind, minimum=None, strict=True, maximum=None):
+    """Check an SI ``value`` of ``kind`` against ``minimum`` / ``maximum`` and the
+    kind's physical upper bound (:data:`UPPER_LIMITS`); raise :class:`InputError`
+    naming ``key_path`` (a scenario key path or a command-line option)."""
+    if minimum is not None and (value <= minimum if strict else value < minimum):
+        bound = "absolute zero (0 K)" if kind == "temperature" and minimum == 0.0 else \
+            format_quantity(minimum, kind) if kind != "dimensionless" else f"{minimum:g}"
+        if kind == "pressure" and minimum == 0.0:
+            bound = "0 Pa absolute (a gauge value below -1 atm, or a negative pressure?)"
+        raise range_error(key_path, raw, value, kind, f"out of range: must be {'above' if strict else 'at least'} "
+                          f"{bound} (got {format_quantity(value, kind)})")
+    if maximum is not None and value > maximum:
+        raise range_error(key_path, raw, value, kind, f"out of range: must be at most "
+                          f"{format_quantity(maximum, kind)} (got {format_quantity(value, kind)})")
+    top = UPPER_LIMITS.get(kind)
+    if top is not None and value > top[0]:
+        bound = format_quantity(top[0], kind) + (f" ({top[0]:g} K)" if kind == "temperature" else "")
+        raise range_error(key_path, raw, value, kind, f"out of range: must be at most {bound}: {top[1]} "
+                          f"(got {format_quantity(value, kind)})")
+
+
 def _fail(key_path, value, kind, why=""):
     k = KINDS[kind]
     message = f"{key_path} = {value!r}: expected {k.words} (e.g. {k.examples})"
@@ -235,6 +284,11 @@ def parse_quantity(text, kind, key_path, ambient_pressure=STANDARD_ATMOSPHERE, d
         value *= molar_mass
     if gauge:
         value += float(ambient_pressure)
+    if not math.isfinite(value):
+        raise _fail(key_path, text, kind, "not a finite number in SI units")
+    # the bounds every value of this kind must meet, wherever it comes from
+    check_range(key_path, text, value, kind, minimum=0.0 if kind in ("temperature", "pressure") else None,
+                strict=kind == "temperature")
     return value
 
 

@@ -39,7 +39,6 @@ local codes, the vessel's approval documents and licensed practice govern.
 """
 from __future__ import annotations
 
-import json
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -48,6 +47,7 @@ import numpy as np
 
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
+from eosfill.equilibrium.solid import path_solid_risk
 from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, EosfillError, InputError, LimitWarning, worst_status
 from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, isobaric_expansion, surface_exchange
 
@@ -166,10 +166,20 @@ class TransientResult:
     description: list = field(default_factory=list)
     n_rhs: int = 0
     status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
+    solid: np.ndarray = None  # per row: True where the content may hold a solid (eosfill.equilibrium.solid)
+    # the solution at every step of the integrator (its own points, denser than
+    # the output grid where the state changes fast): t, P, T_gas, T_wall_inner, T_wall_outer
+    dense: dict = field(default_factory=dict)
+    # {"max_T_gas": (value, t), ...}: extrema located on the integrator's dense output
+    extrema: dict = field(default_factory=dict)
 
     # peaks
     def peak(self, name, which="max"):
-        """(value, time) of the largest (or smallest) value of a series."""
+        """(value, time) of the largest (or smallest) value of a series, located on
+        the integrator's dense output (not the output grid) when the run kept it."""
+        located = self.extrema.get(f"{which}_{name}")
+        if located is not None:
+            return located
         arr = np.asarray(getattr(self, name), dtype=float)
         if arr.size == 0 or np.all(np.isnan(arr)):
             return float("nan"), float("nan")
@@ -188,38 +198,6 @@ class TransientResult:
     def liquid_appeared(self):
         return bool(np.any(np.asarray(self.vapour_fraction) < 1.0 - 1e-12))
 
-    def summary(self):
-        def C(T):
-            return f"{T - 273.15:.2f} °C"
-
-        lines = list(self.description)
-        status = "complete" if self.complete else "INCOMPLETE (integration stopped early)"
-        lines.append(f"time-resolved {self.kind}: {status}; stop: {self.stop_reason}")
-        lines.append(f"duration {self.t[-1]:.6g} s; pressure {self.P[0] / 1e5:.6g} -> {self.P[-1] / 1e5:.6g} bar; "
-                     f"mass {self.mass[0]:.6g} -> {self.mass[-1]:.6g} kg")
-        for name, label in (("T_gas", "gas temperature"), ("T_wall_inner", "inner wall temperature"),
-                            ("T_wall_outer", "outer wall temperature")):
-            hi, thi = self.peak(name, "max")
-            lo, tlo = self.peak(name, "min")
-            if math.isfinite(hi):
-                lines.append(f"{label}: max {C(hi)} at {thi:.4g} s, min {C(lo)} at {tlo:.4g} s, "
-                             f"end {C(float(getattr(self, name)[-1]))}")
-        Pmax, tP = self.peak("P")
-        lines.append(f"max pressure {Pmax / 1e5:.6g} bar at {tP:.4g} s")
-        lines.append(f"mass in {self.mass_in:.6g} kg, out {self.mass_out:.6g} kg; heat from ambient "
-                     f"{self.heat_from_ambient:.6g} J")
-        lines.append(f"closure (relative): mass {self.mass_closure:.2e}, energy {self.energy_closure:.2e}")
-        if self.liquid_appeared:
-            lines.append("a liquid phase appears (homogeneous equilibrium assumed)")
-        if self.status != CONVERGED:
-            lines.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
-        for f in self.flags:
-            lines.append(f"FLAG: {f}")
-        lines.append(CAUTION)
-        return "\n".join(lines)
-
-    __str__ = summary
-
     def to_dict(self):
         d = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in self.__dict__.items()}
         d["peaks"] = self.peaks
@@ -232,22 +210,8 @@ class TransientResult:
         import pandas as pd
 
         cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                "Q_wall", "phase", "vapour_fraction", "bank")
+                "Q_wall", "phase", "vapour_fraction", "bank", "solid")
         return pd.DataFrame({c: getattr(self, c) for c in cols})
-
-    def write(self, json_path=None, csv_path=None):
-        """Write the result as JSON and/or the time series as CSV (SI)."""
-        if json_path is not None:
-            with open(json_path, "w") as fh:
-                json.dump(self.to_dict(), fh, indent=1, default=float)
-        if csv_path is not None:
-            cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                    "Q_wall", "vapour_fraction", "bank", "phase")
-            with open(csv_path, "w") as fh:
-                fh.write(",".join(f"{c}" for c in cols) + "\n")
-                for i in range(self.t.size):
-                    fh.write(",".join(repr(float(getattr(self, c)[i])) if c != "phase" else str(self.phase[i])
-                                      for c in cols) + "\n")
 
 
 # --------------------------------------------------------------------------
@@ -979,10 +943,77 @@ class _Run:
         res.heat_from_ambient = float(ys[-1, a + 5])
         res.mass_closure, res.energy_closure, res.state_residual, st_closure = _closure(m, ys, rows, self.y0)
         res.status = worst_status(m.status, st_closure, *(t.status for t in m._isentrope_tables.values()))
-        res.flags = _flags(res, limits)
+        res.dense, res.extrema = self._dense_extrema()
+        risk = path_solid_risk(m.fluid, T, P, np.array([r["gas"]["x"] for r in rows]))
+        res.solid = np.asarray(risk.flag, dtype=bool)
+        res.flags = _flags(res, limits) + [f"solid region first seen at {times[i[0]]:.4g} s "
+                                           f"({int(res.solid.sum())} of {res.solid.size} output rows): {text}"
+                                           for i, text in risk.reasons[:1]]
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res
+
+
+    def _at(self, seg, tt):
+        """The evaluated state at time ``tt`` on one segment's dense output."""
+        m = self.m
+        t0, t1, dense, act = seg
+        keep = m.active
+        if m.nb:
+            m.active = act
+        try:
+            return m.evaluate(tt, dense(min(max(tt, t0), t1)))
+        finally:
+            m.active = keep
+
+    def _dense_extrema(self):
+        """The solution at every integrator step, and the extrema of P, T_gas and
+        the wall temperatures located on the dense output: the largest or smallest
+        step value, refined by a bounded scalar search (Brent) over the steps on
+        either side of it."""
+        from scipy.optimize import minimize_scalar
+
+        series = {"P": "P", "T_gas": "T", "T_wall_inner": "Tw_in", "T_wall_outer": "Tw_out"}
+        if not self.segments:
+            return {}, {}
+        m = self.m
+        keep = m.active
+        if m.nb:
+            m.active = 0
+        first = m.evaluate(0.0, self.y0)
+        m.active = keep
+        rows = [first] + [self._at(seg, seg[1]) for seg in self.segments]
+        t = np.array([0.0] + [seg[1] for seg in self.segments])
+        dense = {"t": t}
+        for name, key in series.items():
+            dense[name] = np.array([float(r[key]) for r in rows])
+        Mw = m.fluid.molar_masses
+        dense["mass"] = np.array([float(self.y0[:m.nc] @ Mw)] +
+                                 [float(seg[2](seg[1])[:m.nc] @ Mw) for seg in self.segments])
+        extrema = {}
+        for name, key in series.items():
+            vals = dense[name]
+            if not np.all(np.isfinite(vals)):
+                continue
+            for which, sign in (("max", -1.0), ("min", 1.0)):
+                i = int(np.argmin(sign * vals))
+                best = (float(vals[i]), float(t[i]))
+                for j in (i - 1, i):  # the segments ending at and starting from point i
+                    if j < 0 or j >= len(self.segments):
+                        continue
+                    seg = self.segments[j]
+                    if seg[1] <= seg[0]:
+                        continue
+                    try:
+                        opt = minimize_scalar(lambda tt: sign * float(self._at(seg, tt)[key]),
+                                              bounds=(seg[0], seg[1]), method="bounded",
+                                              options={"xatol": 1e-6 * max(seg[1], 1.0)})
+                    except (EosfillError, ValueError):
+                        continue
+                    if np.isfinite(opt.fun) and sign * opt.fun < sign * best[0]:
+                        best = (float(sign * opt.fun), float(opt.x))
+                extrema[f"{which}_{name}"] = best
+        return dense, extrema
 
 
 def _cp_and_expansion(fluid, g, M):
@@ -1118,5 +1149,6 @@ def _flags(res, limits):
                          f"{L['max_pressure'] / 1e5:.6g} bar (max_pressure)")
     if res.liquid_appeared:
         i = int(np.argmax(np.asarray(res.vapour_fraction) < 1.0 - 1e-12))
-        flags.append(f"a liquid phase appears at {res.t[i]:.4g} s")
+        flags.append("the content holds a liquid from the start (two-phase)" if i == 0
+                     else f"a liquid phase appears at {res.t[i]:.4g} s")
     return flags

@@ -409,12 +409,30 @@ def _fill_closure(fluid, V, final, initial, supply_T, supply_P, z_in, N, Cw, Tw0
 # --------------------------------------------------------------------------
 # results
 # --------------------------------------------------------------------------
-def _qty(value, kind, digits=6):
-    from eosfill.io.units import format_quantity
+@dataclass(frozen=True)
+class LimitPassed:
+    """A computed value past a limit the user gave (or a default), as data; the
+    outside-world layer (:mod:`eosfill.io.summaries`) renders it in an engineer's units.
 
-    if value is None:
-        return "n/a"
-    return format_quantity(value, kind, digits=digits)
+    ``key``: the limit's name (``"max_gas_temperature"``); ``quantity``: what
+    passed it, in words; ``value``, ``limit``: SI; ``kind``: the kind of
+    quantity (``"temperature"``, ``"pressure"``, ``"density"``; None for a
+    plain number); ``note``: what it means (``"overfill"``)."""
+
+    key: str
+    quantity: str
+    value: float
+    limit: float
+    kind: str | None = None
+    note: str = ""
+
+    def __str__(self):  # plain SI, for logs and old callers that treat flags as text
+        u = {"temperature": " K", "pressure": " Pa", "density": " kg/m3"}.get(self.kind, "")
+        return (f"{self.quantity} {self.value:.6g}{u} passes the limit {self.key} = {self.limit:.6g}{u}"
+                + (f" ({self.note})" if self.note else ""))
+
+    def __contains__(self, text):  # flags were strings: `"overfill" in flag` keeps working
+        return text in str(self)
 
 
 @dataclass
@@ -432,6 +450,7 @@ class EndState:
     liquid_mass: float | None = None
     vapour_mass: float | None = None
     liquid_volume_fraction: float | None = None
+    solid: list = field(default_factory=list)  # solid region / freeze-out (eosfill.equilibrium.solid)
 
     @classmethod
     def of(cls, fluid, st, n, V, wall=None):
@@ -440,7 +459,8 @@ class EndState:
         beta = _f(st.vapor_fraction)
         out = cls(T=_f(st.T), P=_f(st.P), n=float(n), mass=float(n * M),
                   composition={k: float(x) for k, x in zip(fluid.names, z) if x > 0},
-                  phase=str(st.phase), vapor_fraction=beta, wall_temperature=wall)
+                  phase=str(st.phase), vapor_fraction=beta, wall_temperature=wall,
+                  solid=list(st.solid_risk.messages))
         if out.phase == "two-phase":
             L = st.liquid
             nL = (1.0 - beta) * n
@@ -452,18 +472,6 @@ class EndState:
         else:
             out.liquid_mass, out.vapour_mass, out.liquid_volume_fraction = 0.0, out.mass, 0.0
         return out
-
-    def lines(self, label, V=None):
-        s = [f"{label}: {_qty(self.T, 'temperature')} ({self.T:.6g} K), {_qty(self.P, 'pressure')}, "
-             f"{_qty(self.mass, 'mass')} ({self.n:.6g} mol), phase {self.phase}"]
-        if self.wall_temperature is not None:
-            s.append(f"  wall temperature {_qty(self.wall_temperature, 'temperature')}")
-        if len(self.composition) > 1:
-            s.append("  composition (mole fractions): " + ", ".join(f"{k} {x:.6g}" for k, x in self.composition.items()))
-        if self.phase == "two-phase":
-            s.append(f"  liquid {_qty(self.liquid_mass, 'mass')}, vapour {_qty(self.vapour_mass, 'mass')}, "
-                     f"liquid volume fraction {self.liquid_volume_fraction:.4g}")
-        return s
 
 
 @dataclass
@@ -479,25 +487,13 @@ class Settled:
     short_fill: float | None = None
     state_of_charge: float | None = None
 
-    def lines(self):
-        s = [f"settled at {_qty(self.T, 'temperature')} (constant volume): {_qty(self.P, 'pressure')}, "
-             f"phase {self.phase}"]
-        if self.nominal_mass is not None:
-            s.append(f"  a fill to the nominal {_qty(self.nominal_pressure, 'pressure')} at "
-                     f"{_qty(self.T, 'temperature')} holds {_qty(self.nominal_mass, 'mass')}; "
-                     f"short fill {_qty(self.short_fill, 'mass')}")
-        if self.state_of_charge is not None:
-            s.append(f"  state of charge {100 * self.state_of_charge:.4g} % (density relative to "
-                     f"{_qty(self.nominal_pressure, 'pressure')} at {_qty(self.nominal_temperature, 'temperature')})")
-        return s
-
 
 @dataclass
 class Result:
     """End state of a fill, cascade fill, liquefied-gas fill or vent.
 
-    Every field SI.  ``str(result)`` is a readable summary with the caution,
-    the closures and the flags; ``to_dict()`` is JSON-ready.
+    Every field SI; data only: :func:`eosfill.io.summaries.result_text` renders
+    it as text (with the caution, the closures and the flags); ``to_dict()`` is JSON-ready.
     """
 
     kind: str
@@ -530,62 +526,6 @@ class Result:
         d["units"] = "SI: K, Pa, m3, mol, kg, J; closures relative"
         d["caution"] = CAUTION
         return d
-
-    def summary(self) -> str:
-        out = [f"result: {self.kind}" + (f" - {self.title}" if self.title else ""),
-               f"vessel volume {_qty(self.volume, 'volume')}"]
-        if self.supply:
-            out.append(f"supply: {_qty(self.supply['T'], 'temperature')}, {_qty(self.supply['P'], 'pressure')} "
-                       f"(enters with its own enthalpy: a throttle is isenthalpic)")
-        if self.initial is not None:
-            out += self.initial.lines("initial")
-        else:
-            out.append("initial: empty (evacuated)")
-        met = "met" if self.stop_met else "NOT MET"
-        out.append(f"stopped by: {self.stop}" + ("" if self.stop == self.stop_requested else
-                                                 f" (asked: {self.stop_requested}, {met})"))
-        for st in self.stages:
-            out.append(f"  bank {st['bank']}: {st['reason']}; bank ends at {_qty(st['bank_T'], 'temperature')}, "
-                       f"{_qty(st['bank_P'], 'pressure')}, gave {_qty(st['mass_drawn'], 'mass')}; vessel then "
-                       f"{_qty(st['vessel_T'], 'temperature')}, {_qty(st['vessel_P'], 'pressure')}, "
-                       f"{_qty(st['vessel_mass'], 'mass')}")
-        out += self.final.lines("final")
-        if self.vent:
-            v = self.vent
-            out.append(f"  let out {_qty(v['mass_out'], 'mass')}; lowest gas temperature "
-                       f"{_qty(v['min_T'], 'temperature')} (a safety figure for the vessel's material)")
-            out.append("  liquid formed: " + (f"yes (first seen on the path at {_qty(v['dew_P'], 'pressure')})"
-                                              if v["liquid_formed"] else "no"))
-        if self.liquefied:
-            q = self.liquefied
-            out.append(f"  filling density {q['fill_density'] / 1e3:.5g} kg/L of vessel volume")
-            if q.get("liquid_full_T") is not None:
-                out.append(f"  liquid-full (hydraulically full) on warming at {_qty(q['liquid_full_T'], 'temperature')}")
-            elif q.get("dry_T") is not None:
-                out.append(f"  never liquid-full on warming: the liquid is gone at {_qty(q['dry_T'], 'temperature')}")
-            else:
-                out.append(f"  {q.get('liquid_full_note', '')}")
-            for line in q.get("defaults", []):
-                out.append(f"  {line}")
-        if self.settled is not None:
-            out += self.settled.lines()
-        if self.comparison:
-            c = self.comparison
-            out.append(f"one bank instead ({c['description']}): vessel {_qty(c['T'], 'temperature')}, "
-                       f"{_qty(c['P'], 'pressure')}, {_qty(c['mass'], 'mass')}; stopped by {c['stop']}; "
-                       f"bank ends at {_qty(c['bank_P'], 'pressure')}")
-        out.append(f"energy closure {self.energy_closure:.3e} (relative to n R T), mass closure "
-                   f"{self.mass_closure:.3e} (relative)")
-        if self.status != CONVERGED:
-            out.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
-        for n in self.notes:
-            out.append(f"note: {n}")
-        for fl in self.flags:
-            out.append(f"FLAG: {fl}")
-        out.append(CAUTION)
-        return "\n".join(out)
-
-    __str__ = summary
 
 
 # --------------------------------------------------------------------------
@@ -627,15 +567,14 @@ def _settle(fluid, z, n, V, T_settle, nominal_pressure=None, nominal_temperature
 
 def _overfill_flag(settled, flags):
     if settled is not None and settled.nominal_pressure is not None and settled.P > settled.nominal_pressure:
-        flags.append(f"settled pressure {settled.P / 1e5:.6g} bar at {settled.T - 273.15:.4g} °C is above the nominal "
-                     f"{settled.nominal_pressure / 1e5:.6g} bar (overfill)")
+        flags.append(LimitPassed("vessel.working_pressure", "settled pressure", settled.P, settled.nominal_pressure,
+                                 "pressure", "overfill"))
 
 
 def _limit_flags(final: EndState, limits, flags, lowest_T=None, highest_T=None):
+    flags.extend(m for m in final.solid if m not in flags)  # solid region, never silent
     if not limits:
         return
-    from eosfill.io.units import format_quantity as fq
-
     hiT = final.T if highest_T is None else highest_T
     loT = final.T if lowest_T is None else lowest_T
     tw = final.wall_temperature
@@ -656,8 +595,7 @@ def _limit_flags(final: EndState, limits, flags, lowest_T=None, highest_T=None):
             value = final.mass / limits["_volume"]
         passed = value > lim if op == ">" else value < lim
         if passed:
-            shown = (fq(value, kind), fq(lim, kind)) if kind else (f"{value:.4g}", f"{lim:.4g}")
-            flags.append(f"{words} {shown[0]} passes the limit {key} = {shown[1]}")
+            flags.append(LimitPassed(key, words, float(value), float(lim), kind))
 
 
 def _scan_first(func, a, b, npts=12):
@@ -821,7 +759,7 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
              "is isenthalpic); the vessel is rigid and, apart from the heat given, adiabatic"]
     if vessel.wall_heat_capacity > 0:
         notes.append("the wall ends at the gas temperature (thermal equilibrium, lumped heat capacity)")
-    flags = []
+    flags = [f"supply: {m}" for m in st_in.solid_risk.messages]  # a solid in the supply line
 
     def solve_for(name):
         """n_f with the criterion met (V1)-(V3); brackets grow from the supply's density."""

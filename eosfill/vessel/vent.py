@@ -127,8 +127,10 @@ def vent(vessel: Vessel, initial: Stream, *, stop="target_pressure", target=None
     lowest = min([p["T"] for p in path] + [final.T])
     vent_info = dict(mass_out=(n0 - n_f) * M, min_T=lowest, liquid_formed=bool(liquid) or final.phase == "two-phase",
                      dew_P=(liquid[0][2] if liquid else (final.P if final.phase == "two-phase" else None)),
-                     E_out=E_out)
-    if vent_info["liquid_formed"]:
+                     E_out=E_out, liquid_at_start=str(st0.phase) in ("two-phase", "liquid"))
+    if vent_info["liquid_at_start"]:
+        flags.append("the content holds a liquid from the start of the vent (two-phase)")
+    elif vent_info["liquid_formed"]:
         flags.append("a liquid phase forms during the vent (dew point crossed)")
     lim = dict(limits or {})
     lim["_volume"] = V
