@@ -72,105 +72,39 @@ def rachford_rice(z, K, tol=1e-13, maxiter=100):
 
     Returns β clipped to [0, 1] (0: RR(0) ≤ 0, all liquid; 1: RR(1) ≥ 0,
     all vapour) and the unclipped solution inside the Whitson-Michelsen
-    bracket (may lie outside [0, 1], a negative flash).
+    bracket (may lie outside [0, 1], a negative flash).  Computed by the
+    compiled kernel :func:`eosfill.equilibrium.kernels.rachford_rice_one`
+    (stopping test there).
     """
+    from eosfill.equilibrium import kernels as ek
+
     z = np.asarray(z, dtype=float)
     K = np.asarray(K, dtype=float)
-    if z.ndim == 2 and z.shape[0] == 1 and K.shape == z.shape:
-        # one state: the same iteration in plain floats (numpy's per-call cost
-        # dominates at this size; tests/test_states.py compares the two)
-        b = _rachford_rice_one(z[0].tolist(), K[0].tolist(), tol, maxiter)
-        return np.array([min(max(b, 0.0), 1.0)]), np.array([b])
-    Km1 = K - 1.0
-    Kmax = K.max(axis=-1)
-    Kmin = K.min(axis=-1)
-    with np.errstate(divide="ignore"):
-        lo = np.where(Kmax > 1.0, 1.0 / (1.0 - Kmax), -np.inf)
-        hi = np.where(Kmin < 1.0, 1.0 / (1.0 - Kmin), np.inf)
-    lo = np.maximum(lo, -1e3)
-    hi = np.minimum(hi, 1e3)
-    # open bracket: shrink by a hair so the poles are not touched
-    span = hi - lo
-    lo = lo + 1e-12 * span
-    hi = hi - 1e-12 * span
-    beta = np.where((lo < 0.5) & (hi > 0.5), 0.5, 0.5 * (lo + hi))
-    # every K ≥ 1 (or ≤ 1): (E2) has no root, f keeps one sign; all vapour (liquid)
-    none_up = Kmin >= 1.0
-    none_down = Kmax <= 1.0
-    beta = np.where(none_up, hi, np.where(none_down, lo, beta))
-    done = none_up | none_down
-    for _ in range(maxiter):
-        den = 1.0 + beta[..., None] * Km1
-        f = (z * Km1 / den).sum(axis=-1)
-        df = -(z * Km1**2 / den**2).sum(axis=-1)
-        # f is decreasing in β: keep the bracket
-        lo = np.where(f > 0.0, beta, lo)
-        hi = np.where(f < 0.0, beta, hi)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = f / df
-        new = beta - step
-        bad = ~np.isfinite(new) | (new < lo) | (new > hi)
-        new = np.where(bad, 0.5 * (lo + hi), new)
-        small = np.abs(new - beta) <= tol * np.maximum(1.0, np.abs(beta))
-        beta = np.where(done | (f == 0.0), beta, new)
-        done |= small | (f == 0.0)
-        if np.all(done):
-            break
+    shape = np.broadcast_shapes(z.shape, K.shape)
+    nc = shape[-1]
+    zf = np.array(np.broadcast_to(z, shape).reshape(-1, nc), dtype=np.float64, order="C")
+    Kf = np.array(np.broadcast_to(K, shape).reshape(-1, nc), dtype=np.float64, order="C")
+    beta = np.empty(zf.shape[0])
+    status = np.empty(zf.shape[0], dtype=np.int64)
+    loop = ek.rachford_rice_parallel if zf.shape[0] >= 4096 else ek.rachford_rice_serial
+    loop(zf, Kf, float(tol), int(maxiter), beta, status)
+    beta = beta.reshape(shape[:-1])
     return np.clip(beta, 0.0, 1.0), beta
-
-
-def _rachford_rice_one(z, K, tol, maxiter):
-    """:func:`rachford_rice` for one state in Python floats (same bracket,
-    same safeguarded Newton, same stopping test); returns the unclipped β."""
-    Kmax, Kmin = max(K), min(K)
-    lo = max(1.0 / (1.0 - Kmax), -1e3) if Kmax > 1.0 else -1e3
-    hi = min(1.0 / (1.0 - Kmin), 1e3) if Kmin < 1.0 else 1e3
-    span = hi - lo
-    lo, hi = lo + 1e-12 * span, hi - 1e-12 * span
-    if Kmin >= 1.0:
-        return hi
-    if Kmax <= 1.0:
-        return lo
-    beta = 0.5 if lo < 0.5 < hi else 0.5 * (lo + hi)
-    pairs = [(zi, Ki - 1.0) for zi, Ki in zip(z, K) if zi > 0.0]
-    for _ in range(maxiter):
-        f = df = 0.0
-        for zi, km1 in pairs:
-            d = 1.0 + beta * km1
-            t = zi * km1 / d
-            f += t
-            df -= t * km1 / d
-        if f == 0.0:
-            return beta
-        if f > 0.0:
-            lo = beta
-        else:
-            hi = beta
-        new = beta - f / df if df != 0.0 else 0.5 * (lo + hi)
-        if not (lo <= new <= hi) or new != new:
-            new = 0.5 * (lo + hi)
-        if abs(new - beta) <= tol * max(1.0, abs(beta)):
-            return new
-        beta = new
-    return beta
 
 
 # --------------------------------------------------------------------------
 # fugacity coefficients with a chosen root
 # --------------------------------------------------------------------------
 def lnphi_root(T, P, x, p, which="stable"):
-    """ln φ_i (..., nc), Z and the volume solution at T, P, composition x.
+    """ln φ_i (..., nc) at T, P, composition x with the root ``which``, and
+    ``{"Z": Z}`` (the root taken).
 
-    One state (shape (1,) / (1, nc)) goes through the plain-float kernel
-    :func:`eosfill.scalar.lnphi_one` (the second item is then ``{"Z": Z}``)."""
-    if isinstance(which, str) and np.size(T) == 1 and np.ndim(x) == 2 and np.shape(x)[0] == 1:
-        from eosfill.model.scalar import lnphi_one
+    Computed by the compiled kernel :func:`eosfill.model.properties.ln_phi_TP_one`
+    (one state or a batch: the same code)."""
+    from eosfill.model import properties as kp
 
-        lp, Z = lnphi_one(float(np.ravel(T)[0]), float(np.ravel(P)[0]), np.ravel(x).tolist(), p, which)
-        return np.array([lp]), {"Z": np.array([Z])}
-    sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
-    lnphi = cubic.ln_phi(T, P, sol["Z"], x, p, a=sol["a"], b=sol["b"])
-    return lnphi, sol
+    lnphi, Z = kp.ln_phi_TP(p.kernel_model, T, P, x, which)
+    return lnphi, {"Z": Z}
 
 
 # --------------------------------------------------------------------------
@@ -307,7 +241,9 @@ def saturation_temperature(P, p, tol=1e-12, maxiter=100, raise_on_fail=True):
 # stability (tangent-plane distance) and two-phase flash for mixtures
 # --------------------------------------------------------------------------
 def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_trials=False):
-    """Michelsen (1982) tangent-plane stability test, vectorised over states.
+    """Michelsen (1982) tangent-plane stability test, vectorised over states
+    (compiled: :func:`eosfill.equilibrium.kernels.stability_one`, where the
+    trials and stopping tests are described).
 
     Parameters
     ----------
@@ -326,74 +262,26 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_tr
         pass them back as ``lnW_start`` for a nearby state (a warm start:
         a time step or a solver iteration away) instead of Wilson's guesses.
     """
-    T = np.asarray(T, dtype=float)
-    P = np.asarray(P, dtype=float)
-    z = np.asarray(z, dtype=float)
+    from eosfill.equilibrium import kernels as ek
+
+    T = np.array(np.ravel(T), dtype=np.float64)
+    P = np.array(np.ravel(P), dtype=np.float64)
+    z = np.array(z, dtype=np.float64, order="C")
     n, nc = z.shape
-    lnphi_z, _ = lnphi_root(T, P, z, p)
-    with np.errstate(divide="ignore"):
-        d = np.where(z > 0, np.log(np.where(z > 0, z, 1.0)) + lnphi_z, -np.inf)
-    lnK = wilson_lnK(T, P, p.Tc, p.Pc, p.omega)
-    # trials stacked: [vapour-like, liquid-like]
-    TT = np.concatenate([T, T])
-    PP = np.concatenate([P, P])
-    dd = np.concatenate([d, d])
-    zz = np.concatenate([z, z])
-    lnW = np.concatenate([np.log(np.where(z > 0, z, 1.0)) + lnK, np.log(np.where(z > 0, z, 1.0)) - lnK])
+    lnW = np.empty((n, 2, nc))
     if lnW_start is not None:
-        # rows of NaN (or trials that had collapsed onto the feed, which would
-        # stay there) start from Wilson's estimates instead
-        start = np.array(lnW_start, dtype=float)
-        with np.errstate(invalid="ignore", over="ignore"):
-            W0 = np.exp(np.where(zz > 0, start, -np.inf))
-            w0 = W0 / W0.sum(axis=-1, keepdims=True)
-        usable = np.all(np.isfinite(np.where(zz > 0, start, 0.0)), axis=-1) & \
-            (np.max(np.abs(w0 - zz), axis=-1) > 1e-4)
-        lnW = np.where(usable[:, None], start, lnW)
-    lnW = np.where(zz > 0, lnW, -np.inf)
-    active = np.ones(2 * n, dtype=bool)
-    tm = np.zeros(2 * n)
-    trivial = np.zeros(2 * n, dtype=bool)
-    for _ in range(maxiter):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        W = np.exp(lnW[idx])
-        w = W / W.sum(axis=-1, keepdims=True)
-        lnphi_w, _ = lnphi_root(TT[idx], PP[idx], w, p)
-        new = np.where(zz[idx] > 0, dd[idx] - lnphi_w, -np.inf)
-        with np.errstate(invalid="ignore"):  # absent components: -inf - -inf, masked out
-            diff = np.where(zz[idx] > 0, new - lnW[idx], 0.0)
-        lnW[idx] = new
-        conv = np.max(np.abs(diff), axis=-1) < tol
-        # trivial solution: w → z
-        wz = np.max(np.abs(w - zz[idx]), axis=-1) < 1e-8
-        # tm* of a stationary point = 1 - ΣW; early exit once clearly negative
-        Wsum = np.exp(new).sum(axis=-1)
-        tm[idx] = 1.0 - Wsum
-        neg = tm[idx] < -1e-8
-        trivial[idx] = wz
-        stop = conv | wz | (neg & (np.max(np.abs(diff), axis=-1) < 1e-4))
-        active[idx[stop]] = False
-        # once one trial of a state has shown instability, its twin can stop
-        found = np.zeros(n, dtype=bool)
-        clear = idx[neg & (np.max(np.abs(diff), axis=-1) < 1e-4)]
-        found[clear % n] = True
-        active &= ~np.concatenate([found, found])
-    tm = np.where(trivial, 0.0, tm)
-    tmv, tml = tm[:n], tm[n:]
-    unstable = np.minimum(tmv, tml) < -1e-10
-    use_v = tmv <= tml
-    Wv = np.exp(lnW[:n])
-    Wl = np.exp(lnW[n:])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        lnK_v = np.log(Wv / Wv.sum(-1, keepdims=True)) - np.log(z)
-        lnK_l = np.log(z) - np.log(Wl / Wl.sum(-1, keepdims=True))
-    lnK0 = np.where(use_v[:, None], lnK_v, lnK_l)
-    lnK0 = np.where(np.isfinite(lnK0), lnK0, lnK)
+        start = np.asarray(lnW_start, dtype=float)
+        lnW[:, 0], lnW[:, 1] = start[:n], start[n:]
+    unstable = np.empty(n, dtype=np.bool_)
+    tm = np.empty(n)
+    lnK0 = np.empty((n, nc))
+    status = np.empty(n, dtype=np.int64)
+    loop = ek.stability_parallel if n >= 64 else ek.stability_serial
+    loop(T, P, z, p.kernel_model, np.array(p.Pc, dtype=np.float64), np.array(p.omega, dtype=np.float64),
+         lnW, lnW_start is not None, float(tol), int(maxiter), unstable, tm, lnK0, status)
     if return_trials:
-        return unstable, lnK0, np.minimum(tmv, tml), lnW
-    return unstable, lnK0, np.minimum(tmv, tml)
+        return unstable, lnK0, tm, np.concatenate([lnW[:, 0], lnW[:, 1]])
+    return unstable, lnK0, tm
 
 
 def _flash_gibbs_min(T, P, z, lnK, p):

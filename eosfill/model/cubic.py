@@ -58,10 +58,19 @@ second temperature derivatives of the mixture a.
 
 Every function broadcasts: state arrays of shape (...) and compositions of
 shape (..., nc) or (nc,).
+
+Role of this module: it holds the named models (:data:`MODELS`), the model
+object :class:`MixtureParameters` and the readable numpy forms of (C1)-(C11).
+The production code runs the compiled one-state kernels of
+:mod:`eosfill.model.cubic_kernels` and :mod:`eosfill.model.properties`
+(the same equations, written once); the numpy forms here are their test
+oracles (``tests/test_kernels.py``) and feed the calculation trace
+(:mod:`eosfill.io.trace`), where every intermediate value is shown.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Callable
 
 import numpy as np
@@ -158,13 +167,24 @@ SRK = CubicModel(
 MODELS = {"PR": PR, "PR78": PR78, "SRK": SRK}
 
 
+# kind code of Soave's α in eosfill.model.alpha (SOAVE there; a test keeps them equal)
+ALPHA_SOAVE = 0
+
+
 @dataclass(frozen=True, eq=False)
 class MixtureParameters:
-    """Frozen per-component arrays a cubic mixture is computed with.
+    """The model every kernel computes with: a small frozen object of arrays.
+
+    Solvers never know which cubic they solve: the family (δ1, δ2, Ωa, Ωb),
+    the α function (kind code and per-component parameters), the mixing
+    parameters (k_ij) and the volume translation (c_i) are all data here.
+    The compiled kernels (:mod:`eosfill.model.cubic_kernels`) take the tuple
+    :attr:`kernel_model`.
 
     Attributes
     ----------
     model : CubicModel
+        The named instance (PR, PR78, SRK) the family constants come from.
     Tc, Pc, omega : ndarray, shape (nc,)
         Critical temperature [K], critical pressure [Pa], acentric factor [-].
     kij : ndarray, shape (nc, nc)
@@ -174,7 +194,15 @@ class MixtureParameters:
     b : ndarray, shape (nc,)
         b_i of (C2) [m³/mol].
     kappa : ndarray, shape (nc,)
-        κ_i of (C3) [-].
+        κ_i of (C3) [-] (the Soave α's parameter; p0 of ``alpha_params``).
+    delta1, delta2, Omega_a, Omega_b : float
+        Family constants of (C1), (C2) [-].
+    alpha_kind : int
+        α function code of :mod:`eosfill.model.alpha` (0: Soave (C3)).
+    alpha_params : ndarray, shape (nc, 3)
+        The α function's per-component parameters (Soave: κ, 0, 0).
+    c : ndarray, shape (nc,)
+        Volume translation c_i [m³/mol] (v = v_eos - Σ x_i c_i).
     """
 
     model: CubicModel
@@ -185,9 +213,19 @@ class MixtureParameters:
     ac: np.ndarray
     b: np.ndarray
     kappa: np.ndarray
+    delta1: float = 0.0
+    delta2: float = 0.0
+    Omega_a: float = 0.0
+    Omega_b: float = 0.0
+    alpha_kind: int = ALPHA_SOAVE
+    alpha_params: np.ndarray = None
+    c: np.ndarray = None
 
     @classmethod
-    def build(cls, model: CubicModel, Tc, Pc, omega, kij):
+    def build(cls, model: CubicModel, Tc, Pc, omega, kij, c=None, alpha_kind=None, alpha_params=None):
+        """Parameters of ``model`` for components (Tc, Pc, ω, k_ij); Soave α (C3)
+        with the model's κ(ω) unless another α kind and its (nc, 3) parameters
+        are given; translation ``c`` [m³/mol] (default none)."""
         Tc = np.asarray(Tc, dtype=float)
         Pc = np.asarray(Pc, dtype=float)
         omega = np.asarray(omega, dtype=float)
@@ -195,9 +233,24 @@ class MixtureParameters:
         ac = model.Omega_a * R**2 * Tc**2 / Pc  # (C2)
         b = model.Omega_b * R * Tc / Pc  # (C2)
         kappa = np.asarray(model.kappa(omega), dtype=float)
-        for arr in (Tc, Pc, omega, kij, ac, b, kappa):
+        if alpha_kind is None:
+            alpha_kind = ALPHA_SOAVE
+            alpha_params = np.stack([kappa, np.zeros_like(kappa), np.zeros_like(kappa)], axis=-1)
+        alpha_params = np.array(alpha_params, dtype=float).reshape(Tc.shape[0], 3)
+        c = np.zeros(Tc.shape[0]) if c is None else np.array(c, dtype=float)
+        for arr in (Tc, Pc, omega, kij, ac, b, kappa, alpha_params, c):
             arr.setflags(write=False)
-        return cls(model, Tc, Pc, omega, kij, ac, b, kappa)
+        return cls(model, Tc, Pc, omega, kij, ac, b, kappa, model.delta1, model.delta2,
+                   model.Omega_a, model.Omega_b, int(alpha_kind), alpha_params, c)
+
+    @cached_property
+    def kernel_model(self):
+        """The model as the compiled kernels take it (private writable copies):
+        (δ1, δ2, Tc, √a_c, b, 1 - k_ij, α kind, α parameters, c)."""
+        def f(a):
+            return np.array(a, dtype=np.float64, order="C")
+        return (float(self.delta1), float(self.delta2), f(self.Tc), f(np.sqrt(self.ac)), f(self.b),
+                f(1.0 - self.kij), int(self.alpha_kind), f(self.alpha_params), f(self.c))
 
 
 # --------------------------------------------------------------------------
@@ -226,10 +279,21 @@ def component_a(T, p: MixtureParameters):
     return p.ac * s**2
 
 
+def _sqrt_a(T, p: MixtureParameters):
+    """q_i = √a_i ≥ 0 and its first two T-derivatives, shape (..., nc).
+
+    (C4) takes √(a_i a_j) with the positive root: q_i = √a_c,i |s_i|, s = √α of (C3)
+    (s turns negative only far above Tc, past the minimum of Soave's α)."""
+    s, ds, d2s = soave_sqrt_alpha(T, p.Tc, p.kappa)
+    sac = np.sqrt(p.ac)
+    sg = np.where(s < 0.0, -1.0, 1.0)
+    return sac * s * sg, sac * ds * sg, sac * d2s * sg
+
+
 def mixture_a(T, x, p: MixtureParameters, derivatives=2):
     """Mixture a of (C4) and its temperature derivatives.
 
-    With q_i = √a_i = √a_c,i · s_i (so a_ij = (1 - k_ij) q_i q_j):
+    With q_i = √a_i (so a_ij = (1 - k_ij) q_i q_j):
 
         a    = Σ_ij x_i x_j (1 - k_ij) q_i q_j
         a_T  = 2 Σ_ij x_i x_j (1 - k_ij) q_i' q_j
@@ -250,90 +314,26 @@ def mixture_a(T, x, p: MixtureParameters, derivatives=2):
     a, a_T, a_TT : ndarray, shape (...)
         [Pa m⁶/mol²], [Pa m⁶/(mol² K)], [Pa m⁶/(mol² K²)] (those asked for).
     """
-    if np.ndim(x) == 1:
-        return _mixture_a_fixed_x(T, x, p, derivatives)
-    s, ds, d2s = soave_sqrt_alpha(T, p.Tc, p.kappa)
-    sac = np.sqrt(p.ac)
+    q, dq, d2q = _sqrt_a(T, p)
     M = 1.0 - p.kij
-    xq = x * (sac * s)
+    xq = x * q
     Mxq = xq @ M  # M symmetric
     a = np.einsum("...i,...i->...", xq, Mxq)
     if derivatives == 0:
         return (a,)
-    xq1 = x * (sac * ds)
+    xq1 = x * dq
     a_T = 2.0 * np.einsum("...i,...i->...", xq1, Mxq)
     if derivatives == 1:
         return a, a_T
-    xq2 = x * (sac * d2s)
+    xq2 = x * d2q
     a_TT = 2.0 * (np.einsum("...i,...i->...", xq2, Mxq)
                   + np.einsum("...i,...i->...", xq1, xq1 @ M))
     return a, a_T, a_TT
 
 
-def _mixture_a_fixed_x(T, x, p: MixtureParameters, derivatives=2):
-    """(C4) for one fixed composition, as a quadratic in t = √T.
-
-    Soave's √α_i = 1 + κ_i (1 - √(T/Tc,i)) = λ_i - μ_i t with
-    λ_i = 1 + κ_i, μ_i = κ_i/√Tc,i.  With C_ij = x_i x_j (1 - k_ij) √(a_c,i a_c,j):
-
-        a(T)  = Σ_ij C_ij (λ_i - μ_i t)(λ_j - μ_j t) = c0 - 2 c1 t + c2 t²
-        c0 = λᵀCλ,  c1 = λᵀCμ,  c2 = μᵀCμ
-        a_T   = (c2 - c1/t)                 (da/dT = da/dt / (2t))
-        a_TT  = c1 / (2 t³)
-
-    The same numbers as the general form in :func:`mixture_a` (which stays
-    as the readable oracle; a test compares the two), in O(1) per state.
-    """
-    c0, c1, c2 = _quadratic_a_coefficients(p, tuple(np.asarray(x, dtype=float)))
-    T = np.asarray(T, dtype=float)
-    t = np.sqrt(T)
-    a = c0 + t * (c2 * t - 2.0 * c1)
-    if derivatives == 0:
-        return (a,)
-    a_T = c2 - c1 / t
-    if derivatives == 1:
-        return a, a_T
-    return a, a_T, c1 / (2.0 * t * T)
-
-
-_QUAD_CACHE: dict = {}
-
-
-def _quadratic_a_coefficients(p: MixtureParameters, x_key: tuple):
-    key = (id(p), x_key)
-    hit = _QUAD_CACHE.get(key)
-    if hit is not None and hit[0] is p:
-        return hit[1]
-    x = np.array(x_key)
-    sac = np.sqrt(p.ac)
-    C = np.outer(x * sac, x * sac) * (1.0 - p.kij)
-    lam = 1.0 + p.kappa
-    mu = p.kappa / np.sqrt(p.Tc)
-    coeffs = (float(lam @ C @ lam), float(lam @ C @ mu), float(mu @ C @ mu))
-    if len(_QUAD_CACHE) > 256:
-        _QUAD_CACHE.clear()
-    _QUAD_CACHE[key] = (p, coeffs)
-    return coeffs
-
-
 def mixture_a_partial(T, x, p: MixtureParameters):
-    """Σ_j x_j a_ij for each i [Pa m⁶/mol²], shape (..., nc); used in (C10).
-
-    For one fixed composition, with √a_i = √a_c,i (λ_i - μ_i t), t = √T
-    (see :func:`_mixture_a_fixed_x`): Σ_j x_j a_ij = √a_i (p_i - t r_i),
-    p = (1 - K)(x √a_c λ), r = (1 - K)(x √a_c μ) computed once.
-    """
-    if np.ndim(x) == 1:
-        t = np.sqrt(np.asarray(T, dtype=float))[..., None]
-        sac = np.sqrt(p.ac)
-        lam = 1.0 + p.kappa
-        mu = p.kappa / np.sqrt(p.Tc)
-        M = 1.0 - p.kij
-        pv = M @ (x * sac * lam)
-        rv = M @ (x * sac * mu)
-        return sac * (lam - mu * t) * (pv - t * rv)
-    s, _, _ = soave_sqrt_alpha(T, p.Tc, p.kappa)
-    q = np.sqrt(p.ac) * s
+    """Σ_j x_j a_ij for each i [Pa m⁶/mol²], shape (..., nc); used in (C10)."""
+    q, _, _ = _sqrt_a(T, p)
     return q * ((x * q) @ (1.0 - p.kij))
 
 

@@ -30,6 +30,11 @@ issued for results that lie outside (common practice, no source).
 
 All functions broadcast: ``T`` of shape (...), coefficients of shape (nc, 5),
 results per component of shape (..., nc).
+
+Role of this module: the readable numpy forms, kept as the test oracles of
+the compiled one-state kernels in :mod:`eosfill.model.idealgas_kernels`
+(which the production code runs), and for the calculation trace;
+:func:`check_range` (the RangeWarning) is used by the production code.
 """
 from __future__ import annotations
 

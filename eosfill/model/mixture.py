@@ -142,7 +142,6 @@ class Mixture:
         for arr in (self.mole_fractions, self.Tc, self.Pc, self.omega, self.molar_masses,
                     self.kij, self.cp_coeffs, self.cp_Tmin, self.cp_Tmax):
             arr.setflags(write=False)
-        self.params = cubic.MixtureParameters.build(self.model, self.Tc, self.Pc, self.omega, self.kij)
         if volume_shift is None:
             c = np.zeros(len(comps))
         elif isinstance(volume_shift, str):
@@ -156,12 +155,23 @@ class Mixture:
                 raise InputError("volume_shift", volume_shift, f"{len(comps)} shifts, one per component [m3/mol]")
         self.volume_shift = c
         self.volume_shift.setflags(write=False)
+        self.params = cubic.MixtureParameters.build(self.model, self.Tc, self.Pc, self.omega, self.kij, c=c)
 
     # ------------------------------------------------------------------
     @property
     def nc(self) -> int:
         """Number of components."""
         return len(self.names)
+
+    @property
+    def kernel_ideal_gas(self):
+        """The ideal-gas data as the compiled kernels take them (private copies):
+        (Cp° coefficients (nc, 5), Tmin (nc,), Tmax (nc,))."""
+        ig = self.__dict__.get("_kernel_ideal_gas")
+        if ig is None:
+            ig = tuple(np.array(a, dtype=np.float64, order="C") for a in (self.cp_coeffs, self.cp_Tmin, self.cp_Tmax))
+            self.__dict__["_kernel_ideal_gas"] = ig
+        return ig
 
     @property
     def is_pure(self) -> bool:
@@ -227,35 +237,33 @@ class Mixture:
 
 
 def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
+    from eosfill.model import properties as kp
+
     p = fluid.params
-    sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
-    Z, a, a_T, b, B = sol["Z"], sol["a"], sol["a_T"], sol["b"], sol["B"]
+    rows = kp.props_TP_rows(p.kernel_model, fluid.kernel_ideal_gas, T, P, x, which)
+    Z = rows[..., kp.TP_Z]
     if not np.all(np.isfinite(Z)):
         bad = np.argwhere(~np.isfinite(np.atleast_1d(Z)))[:3].ravel().tolist()
         raise EosfillError(f"no admissible root of the cubic at rows {bad}")
-    model = p.model
     x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
     present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
     idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
-    h0 = idealgas.mixture_h0(T, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
-    s0 = idealgas.mixture_s0(T, P, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
-    hR = cubic.residual_h(T, Z, a, a_T, b, B, model)
-    sR = cubic.residual_s(Z, a_T, b, B, model)
-    v_eos = sol["v"]
-    c = np.asarray(x) @ fluid.volume_shift
-    v = v_eos - c
-    h = h0 + hR - P * c
-    u = h0 + hR - P * v_eos  # u = h - P v; unchanged by the shift
-    s = s0 + sR
+    sol = dict(Z=Z, v=rows[..., kp.TP_V_EOS], a=rows[..., kp.TP_A], a_T=rows[..., kp.TP_A_T],
+               a_TT=rows[..., kp.TP_A_TT], b=rows[..., kp.TP_B], A=rows[..., kp.TP_ADIM],
+               B=rows[..., kp.TP_BDIM], roots=rows[..., kp.TP_R0:kp.TP_R2 + 1],
+               choice=rows[..., kp.TP_CHOICE].astype(np.int8),
+               dPdT=rows[..., kp.TP_DPDT], dPdv=rows[..., kp.TP_DPDV], cv=rows[..., kp.TP_CV],
+               cp=rows[..., kp.TP_CP])
+    hR, sR = rows[..., kp.TP_H_RES], rows[..., kp.TP_S_RES]
     st = State(fluid)
-    st._set(T=T, P=P, v=v, h=h, u=u, s=s, beta=None, x=x_arr, sol=sol, h_res=hR, s_res=sR,
-             v_eos=v_eos, shift=c)
+    st._set(T=T, P=P, v=rows[..., kp.TP_V], h=rows[..., kp.TP_H], u=rows[..., kp.TP_U], s=rows[..., kp.TP_S],
+            beta=None, x=x_arr, sol=sol, h_res=hR, s_res=sR, v_eos=sol["v"], shift=rows[..., kp.TP_SHIFT])
     # phase label (Venkatarathnam & Oellrich 2011 Π; Kay's rule pseudo-critical)
     if np.ndim(x) == 1:
         Tpc, Ppc = float(x @ fluid.Tc), float(x @ fluid.Pc)
     else:
         Tpc, Ppc = x @ fluid.Tc, x @ fluid.Pc
-    Pi = cubic.phase_identification_parameter(T, v_eos, a, a_T, b, model)
+    Pi = rows[..., kp.TP_PI]
     code = np.where(Pi > 1.0, LIQUID, GAS)
     code = np.where((T >= Tpc) & (P >= Ppc), SUPERCRITICAL, code)
     st._phase_code = code.astype(np.int8)
@@ -397,16 +405,14 @@ class State:
     def _derivs(self):
         self._require_single("derivative property")
         sol = self._sol
-        f = self.fluid
-        p = f.params
-        T = self._T
-        v, a, a_T, a_TT, b, B, Z = sol["v"], sol["a"], sol["a_T"], sol["a_TT"], sol["b"], sol["B"], sol["Z"]
-        dPdT = cubic.dP_dT_v(v, a_T, b, p.model)
-        dPdv = cubic.dP_dv_T(T, v, a, b, p.model)
-        cv = (idealgas.mixture_cp0(T, self._x_fixed(), f.cp_coeffs, f.cp_Tmin, f.cp_Tmax) - R
-              + cubic.residual_cv(T, Z, a_TT, b, B, p.model))
-        cp = cv - T * dPdT**2 / dPdv
-        return dict(dPdT=dPdT, dPdv=dPdv, cv=cv, cp=cp)
+        if "cp" in sol:   # computed with the state by the (T, P) kernel
+            return dict(dPdT=sol["dPdT"], dPdv=sol["dPdv"], cv=sol["cv"], cp=sol["cp"])
+        from eosfill.model import properties as kp
+
+        rows = kp.props_Tv_rows(self.fluid.params.kernel_model, self.fluid.kernel_ideal_gas,
+                                self._T, sol["v"], self._x)
+        dPdT, dPdv, cv = rows[..., kp.TV_DPDT], rows[..., kp.TV_DPDV], rows[..., kp.TV_CV]
+        return dict(dPdT=dPdT, dPdv=dPdv, cv=cv, cp=cv - self._T * dPdT**2 / dPdv)
 
     def _single(self, name):
         return self._derivs[name]
@@ -490,8 +496,9 @@ class State:
     @cached_property
     def _lnphi(self):
         self._require_single("ln_phi")
-        sol = self._sol
-        lnphi = cubic.ln_phi(self._T, self._P, sol["Z"], self._x_fixed(), self.fluid.params, a=sol["a"], b=sol["b"])
+        from eosfill.model import properties as kp
+
+        lnphi = kp.ln_phi_at_Z(self.fluid.params.kernel_model, self._T, self._P, self._sol["Z"], self._x_fixed())
         # Péneloux shift: ln φ_i - c_i P/(R T)
         return lnphi - self.fluid.volume_shift * (self._P / (R * self._T))[..., None]
 

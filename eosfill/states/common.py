@@ -7,9 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from eosfill.constants import P0, R
 from eosfill.errors import ConvergenceError, InputError
-from eosfill.model import cubic, idealgas
 from eosfill.model.mixture import LIQUID, TWO_PHASE, Mixture, State, _out
 
 _ILLINOIS_MAXITER = 200
@@ -25,40 +23,26 @@ def props_Tv(fluid: Mixture, T, v_eos, x=None):
     s(T, v) = S°(T, P0) - R ln(R T/((v - b) P0)) - R Σ x ln x
               + a_T/b · L                                    (C8, with P eliminated)
     h = u + P v ;  values with the fluid's volume shift applied to v and h.
+    Computed by the compiled kernel :func:`eosfill.model.properties.props_Tv_one`.
     """
-    p = fluid.params
+    from eosfill.model import properties as kp
+
     x = fluid.mole_fractions if x is None else x
-    T = np.asarray(T, dtype=float)
-    a, a_T, a_TT = cubic.mixture_a(T, x, p)
-    b = cubic.mixture_b(x, p)
-    d1, d2 = p.model.delta1, p.model.delta2
-    with np.errstate(invalid="ignore", divide="ignore"):
-        P = cubic.pressure(T, v_eos, a, b, p.model)
-        Lv = np.log((v_eos + d1 * b) / (v_eos + d2 * b)) / (d1 - d2)
-        uR = (T * a_T - a) / b * Lv
-        h0 = idealgas.mixture_h0(T, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
-        u = h0 - R * T + uR
-        # S°(T, P0) includes -R Σ x ln x
-        s0T = idealgas.mixture_s0(T, P0, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
-        s = s0T - R * np.log(R * T / ((v_eos - b) * P0)) + a_T / b * Lv
-        cv = idealgas.mixture_cp0(T, x, fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax) - R + T * a_TT / b * Lv
-    c = np.asarray(x) @ fluid.volume_shift
-    v = v_eos - c
-    h = u + P * v
-    return dict(P=P, u=u, h=h, s=s, v=v, cv=cv, b=b)
+    rows = kp.props_Tv_rows(fluid.params.kernel_model, fluid.kernel_ideal_gas, T, v_eos, x)
+    return {k: rows[..., kp.TV_NAMES.index(k)] for k in ("P", "u", "h", "s", "v", "cv", "b")}
 
 
 def props_TP(fluid: Mixture, T, P, x=None, which="stable"):
-    """Single-phase v, u, h, s at (T, P) with the chosen root of the cubic."""
-    p = fluid.params
+    """Single-phase v, u, h, s at (T, P) with the chosen root of the cubic
+    (compiled kernel :func:`eosfill.model.properties.props_TP_one`)."""
+    from eosfill.model import properties as kp
+
     x = fluid.mole_fractions if x is None else x
-    sol = cubic.solve_volume_from_TP(T, P, x, p, which=which)
-    out = props_Tv(fluid, T, sol["v"], x)
+    v_eos = kp.props_TP_rows(fluid.params.kernel_model, fluid.kernel_ideal_gas, T, P, x, which)[..., kp.TP_V_EOS]
+    out = props_Tv(fluid, T, v_eos, x)   # u, h, s, cv in their (T, v) form, as every (T, v) solve sees them
     out["P"] = np.asarray(P, dtype=float) * np.ones_like(out["u"])
-    c = np.asarray(x) @ fluid.volume_shift
     out["h"] = out["u"] + out["P"] * out["v"]
-    out["v_eos"] = sol["v"]
-    del c
+    out["v_eos"] = v_eos
     return out
 
 

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from eosfill.model import cubic
 from eosfill.equilibrium import solvers as equilibrium
 from eosfill.constants import R
 from eosfill.errors import ConvergenceError, InputError
@@ -180,8 +179,7 @@ def _unstable_at_Tv(fluid, T, P, v_eos, z):
     """A single-phase (T, v) state is the equilibrium state only if its volume
     is the lowest-Gibbs root at its own (T, P) and the tangent-plane test
     finds no phase of lower Gibbs energy (Michelsen 1982)."""
-    sol = cubic.solve_volume_from_TP(T, P, z, fluid.params, which="stable")
-    wrong_root = np.abs(sol["v"] - v_eos) > 1e-7 * v_eos
+    wrong_root = np.abs(props_TP(fluid, T, P, z)["v_eos"] - v_eos) > 1e-7 * v_eos
     us, _, _ = equilibrium.stability_test(T, P, z, fluid.params)
     return us | wrong_root
 

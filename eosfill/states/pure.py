@@ -12,7 +12,7 @@ import numpy as np
 
 from eosfill.equilibrium import solvers as equilibrium
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, InputError
+from eosfill.errors import CONVERGED, InputError
 from eosfill.model.mixture import Mixture
 from eosfill.model.mixture import _out
 from eosfill.states.common import _T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP, props_Tv
@@ -80,27 +80,28 @@ def _solve_fixed_v(fluid: Mixture, v, key, target):
 
 
 def _pure_fixed_v_scalar(fluid: Mixture, v, key, target):
-    """One pure-fluid state at fixed v by the scalar kernel (:mod:`eosfill.scalar`).
+    """One pure-fluid state at fixed v by the compiled one-state solve
+    (:func:`eosfill.model.properties.T_at_v_one`).
 
     Valid when the single-phase solution lies clearly outside the
     saturation dome (then it is the stable state: for a pure fluid every
     (T, v) outside the dome is stable); otherwise returns None and the
     vectorised path decides."""
     from eosfill.equilibrium.saturation_curve import saturation_curve
-    from eosfill.model import scalar
+    from eosfill.model import properties as kp
 
     b = float(fluid.params.b[0]) - fluid.volume_shift[0]
     if not v > b:
         return None
-    k = scalar.fixed_composition(fluid)
     Tlo, Thi = _T_bounds(fluid)
-    try:
-        T = k.T_at_v(key, target, v, T_guess=max(float(fluid.Tc[0]), 300.0), T_lo=Tlo, T_hi=Thi)
-    except ConvergenceError:
+    T, _, status, row = kp.T_at_v_entry(kp.KEY_NAMES[key], float(target), v + float(fluid.volume_shift[0]),
+                                        max(float(fluid.Tc[0]), 300.0), Tlo, Thi, np.ones(1),
+                                        fluid.params.kernel_model, fluid.kernel_ideal_gas, 1e-12, 100)
+    if status != CONVERGED:
         return None
     if T <= Tlo * (1 + 1e-9) or T >= Thi * (1 - 1e-9):
         return None
-    P = k.props_Tv(T, v)[0]
+    P = row[kp.TV_P]
     if not P > 0.0:
         return None
     if T < float(fluid.Tc[0]) and saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):

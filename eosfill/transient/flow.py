@@ -93,12 +93,11 @@ def _positive(name, value, allowed="a number > 0"):
 class TVKernel:
     """Single-phase u, h, s, P, cv and P derivatives at (T, v) for one composition.
 
-    The same equations as :func:`eosfill.states.props_Tv` (C1-C4, C7-C11 of
-    :mod:`eosfill.cubic`, Poling Cp° held constant outside its range).  A
-    scalar call goes to the plain-float kernel
-    :class:`eosfill.scalar.FixedComposition` (the time integration calls it
-    thousands of times); an array call to the vectorised kernels.  Both agree
-    with ``props_Tv`` to round-off (``tests/test_flow.py``, ``tests/test_scalar.py``).
+    A thin holder of one composition around the compiled kernels
+    :func:`eosfill.model.properties.props_Tv_one` (C1-C4, C7-C11 of
+    :mod:`eosfill.model.cubic`, Poling Cp° held constant outside its range)
+    and the one-state solves on them; a scalar and an array call run the
+    same compiled code (checked in ``tests/test_flow.py``, ``tests/test_kernels.py``).
 
     Parameters
     ----------
@@ -108,7 +107,7 @@ class TVKernel:
     """
 
     def __init__(self, fluid, x=None):
-        from eosfill.model.scalar import FixedComposition
+        from eosfill.model import properties
 
         p = fluid.params
         x = np.array(fluid.mole_fractions if x is None else x, dtype=float)
@@ -118,7 +117,14 @@ class TVKernel:
         self.b = float(x @ p.b)
         self.c_shift = float(x @ fluid.volume_shift)
         self.molar_mass = float(x @ fluid.molar_masses)
-        self._fc = FixedComposition(fluid, x)
+        self._kp = properties
+        self._m = p.kernel_model
+        self._ig = fluid.kernel_ideal_gas
+
+    _KEYS = ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v")   # the first columns of a (T, v) row
+
+    def _row(self, row):
+        return dict(zip(self._KEYS, row.tolist()))
 
     def __call__(self, T, v_eos):
         """Properties at T [K] and the model's molar volume v_eos [m³/mol].
@@ -126,65 +132,45 @@ class TVKernel:
         Returns a dict: P [Pa], u, h [J/mol], s [J/(mol K)], cv [J/(mol K)],
         dPdT [Pa/K], dPdv [Pa mol/m³], v (shifted) [m³/mol].
         """
-        if np.ndim(T) == 0 and np.ndim(v_eos) == 0:
-            vs = float(v_eos) - self.c_shift
-            P, u, h, s, cv, dPdT, dPdv = self._fc.props_Tv(float(T), vs)
-            return dict(P=P, u=u, h=h, s=s, cv=cv, dPdT=dPdT, dPdv=dPdv, v=vs)
-        from eosfill.model.cubic import dP_dT_v, dP_dv_T, mixture_a
-        from eosfill.states.common import props_Tv
-
-        T = np.asarray(T, dtype=float)
-        v = np.asarray(v_eos, dtype=float)
-        pr = props_Tv(self.fluid, T, v, self.x)
-        a, a_T = mixture_a(T, self.x, self.fluid.params, derivatives=1)
-        return dict(P=pr["P"], u=pr["u"], h=pr["h"], s=pr["s"], cv=pr["cv"],
-                    dPdT=dP_dT_v(v, a_T, self.b, self.model), dPdv=dP_dv_T(T, v, a, self.b, self.model),
-                    v=pr["v"])
+        kp = self._kp
+        if (isinstance(T, float) or np.ndim(T) == 0) and (isinstance(v_eos, float) or np.ndim(v_eos) == 0):
+            return self._row(kp.props_Tv_entry(float(T), float(v_eos), self.x, self._m, self._ig))
+        rows = kp.props_Tv_rows(self._m, self._ig, T, v_eos, self.x)
+        return {k: rows[..., kp.TV_NAMES.index(k)] for k in ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v")}
 
     def T_from_uv(self, u, v_eos, T_guess, tol=1e-11, maxiter=50):
-        """Single-phase T with u(T, v) = u: Newton on T (∂u/∂T)_v = cv, warm-started.
+        """Single-phase T with u(T, v) = u: Newton on T (∂u/∂T)_v = cv, warm-started
+        (compiled: :func:`eosfill.model.properties.T_from_uv_one`).
 
         Raises ConvergenceError if it does not converge (e.g. cv ≤ 0 where the
         cubic's single-phase branch is mechanically unstable).
         """
-        T = float(T_guess)
-        for _ in range(maxiter):
-            pr = self(T, v_eos)
-            cv = float(pr["cv"])
-            f = float(pr["u"]) - u
-            if not (cv > 0.0 and np.isfinite(f)):
-                break
-            dT = f / cv
-            dT = max(min(dT, 0.5 * T), -0.5 * T)
-            T -= dT
-            if abs(dT) <= tol * T:
-                return T, self(T, v_eos)
-        raise ConvergenceError("u-v Newton (single phase)", "no convergence",
-                               dict(T=T, u=u, v_eos=float(v_eos)))
+        T, status, row = self._kp.T_from_uv_entry(float(u), float(v_eos), float(T_guess), self.x, self._m,
+                                                   self._ig, float(tol), int(maxiter))
+        if status != CONVERGED:
+            raise ConvergenceError("u-v Newton (single phase)", "no convergence",
+                                   dict(T=T, u=u, v_eos=float(v_eos)))
+        return T, self._row(row)
 
     def v_from_TP(self, T, P, v_guess, tol=1e-12, maxiter=50):
-        """Single-phase v_eos with P(T, v) = P on the branch of v_guess (Newton in ln v)."""
-        v = float(v_guess)
-        for _ in range(maxiter):
-            pr = self(T, v)
-            f = float(pr["P"]) - P
-            dlnv = f / (float(pr["dPdv"]) * v)
-            dlnv = max(min(dlnv, 0.5), -0.5)
-            v *= np.exp(-dlnv)
-            if abs(dlnv) < tol:
-                return v, self(T, v)
-        raise ConvergenceError("T-P volume Newton", "no convergence", dict(T=T, P=P, v=v))
+        """Single-phase v_eos with P(T, v) = P on the branch of v_guess (Newton in ln v;
+        compiled: :func:`eosfill.model.properties.v_from_TP_one`)."""
+        v, status, row = self._kp.v_from_TP_entry(float(T), float(P), float(v_guess), self.x, self._m,
+                                                   self._ig, float(tol), int(maxiter))
+        if status != CONVERGED:
+            raise ConvergenceError("T-P volume Newton", "no convergence", dict(T=T, P=P, v=v))
+        return v, self._row(row)
 
 
 def gas_state_TP(fluid, T, P, x=None):
     """Stable single-phase v_eos and properties at (T, P) with the kernel (start point of
     :meth:`TVKernel.v_from_TP` from the cubic's lowest-Gibbs root)."""
-    from eosfill.model.cubic import solve_volume_from_TP
+    from eosfill.model import properties as kp
 
     x = fluid.mole_fractions if x is None else np.asarray(x, dtype=float)
-    sol = solve_volume_from_TP(T, P, x, fluid.params, which="stable")
     k = TVKernel(fluid, x)
-    return float(sol["v"]), k(T, float(sol["v"])), k
+    v_eos = float(kp.props_TP_rows(k._m, k._ig, T, P, k.x)[..., kp.TP_V_EOS])
+    return v_eos, k(T, v_eos), k
 
 
 # --------------------------------------------------------------------------
