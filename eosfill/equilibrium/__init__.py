@@ -1,6 +1,7 @@
 """Phase equilibrium on the model layer: Wilson K, Rachford-Rice, pure-fluid
 saturation, tangent-plane stability, the TP flash, bubble and dew points,
-phase envelopes (see :mod:`eosfill.equilibrium.solvers`).
+phase envelopes (see :mod:`eosfill.equilibrium.solvers`); the multiphase
+flash (:mod:`eosfill.equilibrium.multiphase`).
 """
 from eosfill.equilibrium.solvers import (  # noqa: F401
     bubble_point,
@@ -14,3 +15,4 @@ from eosfill.equilibrium.solvers import (  # noqa: F401
     stability_test,
     wilson_lnK,
 )
+from eosfill.equilibrium.multiphase import flash_multiphase_TP, stability_multi_batch  # noqa: F401,E402

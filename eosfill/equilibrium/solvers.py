@@ -437,8 +437,15 @@ def _flash_gibbs_min(T, P, z, lnK, p):
     y = nv / b
     x = nl / nl.sum()
     with np.errstate(divide="ignore"):
-        lnK = np.where(pos, np.log(np.where(pos, y, 1.0)) - np.log(np.where(pos, x, 1.0)), 0.0)
-    return lnK
+        lnK_new = np.where(pos, np.log(np.where(pos, y, 1.0)) - np.log(np.where(pos, x, 1.0)), 0.0)
+    if res.success:
+        return lnK_new
+    # L-BFGS-B stopped short (res.success False: line search or iteration
+    # limit): keep whichever of its point and the start has the smaller
+    # equal-fugacity residual; the flash's final residual test sets the status
+    r_new = np.max(np.abs(_flash_residual(T, P, z, lnK_new, p)))
+    r_old = np.max(np.abs(_flash_residual(T, P, z, np.asarray(lnK, dtype=float), p)))
+    return lnK_new if r_new <= r_old else np.asarray(lnK, dtype=float)
 
 
 def _phases_from_K(z, lnK, p, T, P, clip=1e-12):

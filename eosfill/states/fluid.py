@@ -29,14 +29,23 @@ class Fluid(Mixture):
     0.999958
     """
 
-    def state(self, **spec):
+    def state(self, on_failure="raise", **spec):
         """The equilibrium state at one pair of specifications.
 
         Exactly two of ``T`` [K], ``P`` [Pa], ``v`` [m³/mol], ``h`` [J/mol],
         ``u`` [J/mol], ``s`` [J/(mol K)]; scalars or arrays that broadcast.
 
+        on_failure : {"raise", "flag"}
+            "raise" (default, scalars and batches alike): a row that does not
+            solve, or whose result misses its specification by more than
+            1e-8 relative, raises :class:`~eosfill.errors.ConvergenceError`
+            naming the row and its inputs (an input with no solution raises
+            :class:`~eosfill.errors.InputError`).  "flag": every row is
+            returned; failed rows hold NaN values and a non-converged
+            ``status`` (see :mod:`eosfill.errors`), the others are unaffected.
+
         Returns
         -------
-        State
+        State, with ``status``, ``status_text``, ``iterations`` and ``residual`` per row.
         """
-        return solve_state(self, **spec)
+        return solve_state(self, on_failure=on_failure, **spec)
