@@ -223,3 +223,35 @@ def test_water_P_h_round_trip_above_2000K():
         st = f.state(T=2151.0, P=1e5)
         back = f.state(P=1e5, h=st.h)
     assert back.T == pytest.approx(2151.0, rel=1e-9)
+
+
+# --------------------------------------------------------------------------
+# status per element from the equilibrium building blocks (issue 9 item 3)
+# --------------------------------------------------------------------------
+def test_rachford_rice_status_per_element():
+    """Exact: z = (1/2, 1/2), K = (2, 1/2) gives β = 1/2 (each term ±1/3);
+    a one-step iteration that cannot reach it says NOT_CONVERGED for that row
+    only; a row with every K > 1 has no root (β = 1 by definition)."""
+    from eosfill.equilibrium import rachford_rice
+
+    z = np.array([[0.5, 0.5], [0.5, 0.5], [0.5, 0.5]])
+    K = np.array([[2.0, 0.5], [40.0, 0.01], [2.0, 3.0]])
+    b, braw, info = rachford_rice(z, K, full_output=True)
+    assert b[0] == pytest.approx(0.5, abs=1e-14) and b[2] == 1.0
+    assert list(info["status"]) == [CONVERGED, CONVERGED, CONVERGED]
+    _, _, info1 = rachford_rice(z, K, maxiter=1, full_output=True)
+    assert info1["status"][1] == NOT_CONVERGED and info1["status"][2] == CONVERGED
+
+
+def test_stability_and_flash_report_status_and_iterations():
+    from eosfill.equilibrium import flash_TP, stability_test
+
+    g = eosfill.Fluid({"methane": 0.9, "ethane": 0.06, "nitrogen": 0.04})
+    z = np.broadcast_to(g.mole_fractions, (2, 3))
+    T, P = np.array([200.0, 300.0]), np.array([5e6, 1e5])
+    *_, status = stability_test(T, P, z, g.params, return_status=True)
+    assert list(status) == [CONVERGED, CONVERGED]
+    *_, status1 = stability_test(T, P, z, g.params, maxiter=1, return_status=True)
+    assert status1[1] == NOT_CONVERGED  # one step cannot decide the stable row
+    fl = flash_TP(T, P, z, g.params)
+    assert fl["iterations"][0] > 0 and fl["iterations"][1] == 0
