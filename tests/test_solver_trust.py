@@ -255,3 +255,23 @@ def test_stability_and_flash_report_status_and_iterations():
     assert status1[1] == NOT_CONVERGED  # one step cannot decide the stable row
     fl = flash_TP(T, P, z, g.params)
     assert fl["iterations"][0] > 0 and fl["iterations"][1] == 0
+
+
+@pytest.mark.reference
+def test_multiphase_flash_grid_vs_thermo_flashvln():
+    """Outside: thermo 0.6.1's FlashVLN (gas + two liquids, PR, our constants)
+    over a low-temperature grid of the lean gas (one, two and three phases
+    all occur): the same phase count everywhere and the same phase fractions
+    to 1e-6."""
+    g = eosfill.Fluid(LEAN, model="PR")
+    ref = _thermo_vlln(g)
+    T, P = np.meshgrid([80.0, 86.0, 92.0, 100.0, 120.0], [3e3, 5.3e3, 2e4, 7.2e4, 1e6])
+    st = g.state(T=T.ravel(), P=P.ravel())
+    counts = set()
+    for i in range(T.size):
+        res = ref.flash(T=float(T.ravel()[i]), P=float(P.ravel()[i]), zs=list(g.mole_fractions))
+        n = int(st.n_phases[i])
+        counts.add(n)
+        assert n == res.phase_count, (T.ravel()[i], P.ravel()[i])
+        assert np.allclose(np.sort(st.phase_fractions[i][:n]), np.sort(res.betas), atol=1e-6)
+    assert counts == {1, 2, 3}
