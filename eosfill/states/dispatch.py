@@ -35,7 +35,21 @@ inside (fixed v), falling back to nested 1-D searches.
 
 Every loop is bounded; a failure raises :class:`ConvergenceError` with
 the last iterate.  Specifications with no physical solution raise
-:class:`InputError`.
+:class:`InputError`.  Every returned row is verified against its
+specification (:func:`spec_residual`) and carries a status
+(``on_failure="flag"`` keeps the other rows of a batch).
+
+Several solutions?  For the equilibrium (stable) state each search runs on
+a property that is monotone in the searched variable: at fixed P, h, s, u
+and v rise with T (Cp > 0; du/dT|_P = Cv + (∂v/∂T)_P (∂u/∂v)_T > 0;
+(∂v/∂T)_P > 0), also across phase splits; at fixed v, u, h and s rise with T
+(Cv > 0, dh/dT|_v = Cv + v (∂P/∂T)_v); at fixed T, s falls with P.  So a
+specification has at most one equilibrium solution in the searched range
+(0.4 min Tc to 1e4 K) and the solvers return it; metastable and unstable
+states (the other roots of the cubic, unstable splits) are never returned.
+Where a model breaks such monotonicity (none found for PR/PR78/SRK with the
+bundled data) the bracketing search converges to one of the solutions (which
+one is not guaranteed) and the verification still holds for it.
 
 Where things are: this module holds the dispatch (:func:`solve_state`),
 the explicit single-phase properties (:func:`props_Tv`, :func:`props_TP`),
