@@ -275,3 +275,28 @@ def test_multiphase_flash_grid_vs_thermo_flashvln():
         assert n == res.phase_count, (T.ravel()[i], P.ravel()[i])
         assert np.allclose(np.sort(st.phase_fractions[i][:n]), np.sort(res.betas), atol=1e-6)
     assert counts == {1, 2, 3}
+
+
+def test_pure_state_says_so_when_saturation_fails(monkeypatch):
+    """Consistency: a pure (T, v) state inside the dome whose saturation
+    pressure did not converge was returned as a single phase with no word;
+    it must carry NOT_CONVERGED (flag) or raise.  The failure is forced by a
+    saturation solver that reports MAXITER for every row."""
+    from eosfill.equilibrium import solvers
+
+    f = eosfill.Fluid("carbon dioxide")
+    good = f.state(T=250.0, v=2e-4)
+    assert good.phase == "two-phase" and good.status == CONVERGED
+    real = solvers.saturation_pressure
+
+    def failing(T, p, **kw):
+        out = real(T, p, **kw)
+        out["status"] = np.full(np.shape(out["status"]), solvers.MAXITER, dtype=np.int8)
+        return out
+
+    monkeypatch.setattr(solvers, "saturation_pressure", failing)
+    st = f.state(T=np.array([250.0, 400.0]), v=np.array([2e-4, 2e-4]), on_failure="flag")
+    assert list(st.status) == [NOT_CONVERGED, CONVERGED]
+    assert np.isnan(st.P[0]) and np.isfinite(st.P[1])
+    with pytest.raises(ConvergenceError):
+        f.state(T=250.0, v=2e-4)
