@@ -132,12 +132,24 @@ def test_values_physical():
 # molecular weight from the formula with IUPAC atomic weights)
 # --------------------------------------------------------------------------
 
-TOL_TC, TOL_PC, TOL_OMEGA, TOL_M = 0.01, 0.03, 0.02, 0.001
+# Tolerances: 0.1 % on Tc and 1 % on Pc (the spread between critically
+# evaluated measurements of a well-studied fluid's critical point is a few
+# 0.01 % in Tc and a few 0.1 % in Pc; the former 1 % / 3 % hid n-heptane's
+# computed-not-printed critical point, issue 10 item 4).
+TOL_TC, TOL_PC, TOL_OMEGA, TOL_M = 0.001, 0.01, 0.02, 0.001
 
-# Per-fluid exceptions: none needed at present (largest differences:
-# n-heptane Tc +0.19 %, Pc +1.4 %; acetylene Pc +2.5 % (Horstmann 2005 vs
-# chemicals' default); omega within 0.006). Air is handled separately below.
-CRIT_EXCEPTIONS: dict = {}
+# Per-fluid exceptions, each with its reason (also in the CSV note or SOURCES.md):
+CRIT_EXCEPTIONS: dict = {
+    # chemicals' default for methanol is the critical point computed from the
+    # de Reuck & Craven 1993 equation (513.38 K, 8.216 MPa); the paper prints
+    # 512.5 K, as does chemicals' own IUPAC method (Gude & Teja 1995)
+    "methanol": dict(Tc=0.002, Pc=0.016),
+    # chemicals' default is the earlier Mondejar et al. 2015 equation (439.6 K,
+    # 3.624 MPa); the row follows Akasaka & Lemmon 2022 (438.86 K, 3.5828 MPa)
+    "R-1233zd(E)": dict(Tc=0.002, Pc=0.012),
+    # Horstmann et al. 2005 (PSRK revision 4) vs chemicals' default: Pc +2.5 %
+    "acetylene": dict(Pc=0.03),
+}
 
 
 @pytest.mark.parametrize("name", [n for n in IDS if BY_NAME[n]["cas"] != AIR_CAS])
@@ -192,25 +204,62 @@ def _coolprop_name(r):
     return None
 
 
+def _printed_critical_point(fn):
+    """The critical point the reference equation's paper prints, as CoolProp
+    8.0.0's fluid file transcribes it (STATES.critical: T [K], p [Pa])."""
+    import CoolProp.CoolProp as CP
+
+    data = json.loads(CP.get_fluid_param_string(fn, "JSON"))
+    data = data[0] if isinstance(data, list) else data
+    crit = data["STATES"]["critical"]
+    return crit["T"], crit["p"]
+
+
 @pytest.mark.parametrize("name", [n for n in IDS if n != "acetylene"])
 def test_critical_constants_match_reference_eos(name):
-    """Tc, Pc, M equal the reference EOS values (CoolProp 8.0.0) to the 10
-    digits written; omega re-derived as -log10(psat(0.7 Tc)/Pc) - 1."""
+    """Tc, Pc equal the critical point the cited reference equation's paper
+    prints (CoolProp 8.0.0's transcription, STATES.critical) to the digits
+    written, not the critical point computed from the equation; M equals the
+    equation's; omega re-derived as -log10(psat(0.7 Tc)/Pc) - 1 with them."""
     pytest.importorskip("CoolProp")
     import CoolProp.CoolProp as CP
 
     r = BY_NAME[name]
     fn = _coolprop_name(r)
     assert fn is not None
-    assert float(r["Tc_K"]) == pytest.approx(CP.PropsSI("Tcrit", fn), rel=1e-9)
-    assert float(r["Pc_Pa"]) == pytest.approx(CP.PropsSI("pcrit", fn), rel=1e-9)
+    tc, pc = _printed_critical_point(fn)
+    assert float(r["Tc_K"]) == pytest.approx(tc, rel=1e-9)
+    assert float(r["Pc_Pa"]) == pytest.approx(pc, rel=1e-9)
     assert float(r["M_kg_per_mol"]) == pytest.approx(CP.PropsSI("molar_mass", fn), rel=1e-9)
     if name == "air":
         assert float(r["omega"]) == pytest.approx(CP.PropsSI("acentric", fn), abs=1e-6)
     else:
-        tc, pc = CP.PropsSI("Tcrit", fn), CP.PropsSI("pcrit", fn)
         w = -math.log10(CP.PropsSI("P", "T", 0.7 * tc, "Q", 0, fn) / pc) - 1.0
         assert float(r["omega"]) == pytest.approx(w, abs=1e-5)
+
+
+@pytest.mark.published
+@pytest.mark.parametrize("name, Tc, Pc, omega", [
+    # Span & Wagner, Int. J. Thermophys. 24 (2003) 41-109, Table I (n-heptane):
+    # Tc = 540.13 K, pc = 2.736 MPa; omega 0.349 (CoolProp's transcription of
+    # the paper; the definition with these constants gives 0.3494)
+    ("n-heptane", 540.13, 2.736e6, 0.349),
+    # Schmidt & Wagner, Fluid Phase Equilib. 19 (1985) 175-200: 154.581 K, 5.043 MPa
+    ("oxygen", 154.581, 5.043e6, 0.0222),
+    # Lemmon & Span, J. Chem. Eng. Data 51 (2006) 785-850, Table (CO): 132.86 K, 3.494 MPa, omega 0.0497
+    ("carbon monoxide", 132.86, 3.494e6, 0.0497),
+    # Akasaka & Lemmon, J. Phys. Chem. Ref. Data 51 (2022) 023101: 438.86 K, 3.5828 MPa
+    ("R-1233zd(E)", 438.86, 3.5828e6, 0.304),
+])
+def test_critical_constants_printed_in_cited_paper(name, Tc, Pc, omega):
+    """Issue 10 item 4: the printed critical constants of the cited papers, to
+    the digits printed (a computed critical point of a short equation is off
+    by 0.2 % in Tc and 1.4 % in Pc for n-heptane)."""
+    r = BY_NAME[name]
+    digits_T = 10.0 ** -len(repr(Tc).split(".")[1]) / 2
+    assert abs(float(r["Tc_K"]) - Tc) <= digits_T
+    assert float(r["Pc_Pa"]) == pytest.approx(Pc, rel=5e-5)
+    assert float(r["omega"]) == pytest.approx(omega, abs=6e-4)
 
 
 def test_acetylene_vs_horstmann2005_table():

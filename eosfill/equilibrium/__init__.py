@@ -1,6 +1,7 @@
 """Phase equilibrium on the model layer: Wilson K, Rachford-Rice, pure-fluid
 saturation, tangent-plane stability, the TP flash, bubble and dew points,
-phase envelopes (see :mod:`eosfill.equilibrium.solvers`); solid boundaries and the
+phase envelopes (see :mod:`eosfill.equilibrium.solvers`); the multiphase
+flash (:mod:`eosfill.equilibrium.multiphase`); solid boundaries and the
 solid-formation screening (:mod:`eosfill.equilibrium.solid`).
 """
 from eosfill.equilibrium.solvers import (  # noqa: F401
@@ -16,3 +17,4 @@ from eosfill.equilibrium.solvers import (  # noqa: F401
     wilson_lnK,
 )
 from eosfill.equilibrium import solid  # noqa: F401,E402  (registers State.solid_risk)
+from eosfill.equilibrium.multiphase import flash_multiphase_TP, stability_multi_batch  # noqa: F401,E402

@@ -67,7 +67,7 @@ def wilson_lnK(T, P, Tc, Pc, omega):
     return np.log(Pc / P) + 5.373 * (1.0 + omega) * (1.0 - Tc / T)
 
 
-def rachford_rice(z, K, tol=1e-13, maxiter=100):
+def rachford_rice(z, K, tol=1e-13, maxiter=100, full_output=False):
     """Vapour fraction β solving (E2); vectorised over leading dimensions.
 
     Returns β clipped to [0, 1] (0: RR(0) ≤ 0, all liquid; 1: RR(1) ≥ 0,
@@ -89,7 +89,26 @@ def rachford_rice(z, K, tol=1e-13, maxiter=100):
     loop = ek.rachford_rice_parallel if zf.shape[0] >= 4096 else ek.rachford_rice_serial
     loop(zf, Kf, float(tol), int(maxiter), beta, status)
     beta = beta.reshape(shape[:-1])
+    if full_output:
+        return np.clip(beta, 0.0, 1.0), beta, _rachford_rice_status(np.broadcast_to(z, shape),
+                                                                      np.broadcast_to(K, shape), beta)
     return np.clip(beta, 0.0, 1.0), beta
+
+
+
+def _rachford_rice_status(z, K, beta):
+    """Per-element outcome of (E2) (``full_output``): status CONVERGED where
+    |f(β)| ≤ 1e-10 Σ z|K - 1| or (E2) has no root (every K on one side of 1:
+    β is 0 or 1 by definition), else NOT_CONVERGED; residual |f(β)|."""
+    from eosfill.errors import CONVERGED as OK, NOT_CONVERGED as BAD
+
+    Km1 = K - 1.0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f = (z * Km1 / (1.0 + beta[..., None] * Km1)).sum(axis=-1)
+    scale = (z * np.abs(Km1)).sum(axis=-1)
+    no_root = (K.min(axis=-1) >= 1.0) | (K.max(axis=-1) <= 1.0)
+    ok = no_root | (np.abs(f) <= 1e-10 * np.maximum(scale, 1e-300))
+    return dict(status=np.where(ok, OK, BAD).astype(np.int8), residual=np.where(no_root, 0.0, np.abs(f)))
 
 
 # --------------------------------------------------------------------------
@@ -240,7 +259,8 @@ def saturation_temperature(P, p, tol=1e-12, maxiter=100, raise_on_fail=True):
 # --------------------------------------------------------------------------
 # stability (tangent-plane distance) and two-phase flash for mixtures
 # --------------------------------------------------------------------------
-def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_trials=False):
+def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_trials=False,
+                   return_status=False):
     """Michelsen (1982) tangent-plane stability test, vectorised over states
     (compiled: :func:`eosfill.equilibrium.kernels.stability_one`, where the
     trials and stopping tests are described).
@@ -257,6 +277,9 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_tr
         Initial ln K for a flash from the most negative trial.
     tm : ndarray, shape (n,)
         Lowest modified tangent-plane distance found.
+    status : ndarray of int8, shape (n,)
+        (with ``return_status``, last item) CONVERGED or NOT_CONVERGED
+        (eosfill.errors codes).
     lnW : ndarray, shape (2n, nc)
         (with ``return_trials``) the trials' final ln W, vapour-like first;
         pass them back as ``lnW_start`` for a nearby state (a warm start:
@@ -279,9 +302,14 @@ def stability_test(T, P, z, p, tol=1e-10, maxiter=300, lnW_start=None, return_tr
     loop = ek.stability_parallel if n >= 64 else ek.stability_serial
     loop(T, P, z, p.kernel_model, np.array(p.Pc, dtype=np.float64), np.array(p.omega, dtype=np.float64),
          lnW, lnW_start is not None, float(tol), int(maxiter), unstable, tm, lnK0, status)
+    out = (unstable, lnK0, tm)
     if return_trials:
-        return unstable, lnK0, tm, np.concatenate([lnW[:, 0], lnW[:, 1]])
-    return unstable, lnK0, tm
+        out = out + (np.concatenate([lnW[:, 0], lnW[:, 1]]),)
+    if return_status:
+        # the compiled loop's per-state outcome (eosfill.errors codes): a state whose
+        # trials stopped (converged, trivial, or instability shown) is decided
+        out = out + (status.astype(np.int8),)
+    return out
 
 
 def _flash_gibbs_min(T, P, z, lnK, p):
@@ -325,8 +353,15 @@ def _flash_gibbs_min(T, P, z, lnK, p):
     y = nv / b
     x = nl / nl.sum()
     with np.errstate(divide="ignore"):
-        lnK = np.where(pos, np.log(np.where(pos, y, 1.0)) - np.log(np.where(pos, x, 1.0)), 0.0)
-    return lnK
+        lnK_new = np.where(pos, np.log(np.where(pos, y, 1.0)) - np.log(np.where(pos, x, 1.0)), 0.0)
+    if res.success:
+        return lnK_new
+    # L-BFGS-B stopped short (res.success False: line search or iteration
+    # limit): keep whichever of its point and the start has the smaller
+    # equal-fugacity residual; the flash's final residual test sets the status
+    r_new = np.max(np.abs(_flash_residual(T, P, z, lnK_new, p)))
+    r_old = np.max(np.abs(_flash_residual(T, P, z, np.asarray(lnK, dtype=float), p)))
+    return lnK_new if r_new <= r_old else np.asarray(lnK, dtype=float)
 
 
 def _phases_from_K(z, lnK, p, T, P, clip=1e-12):
@@ -403,7 +438,8 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     dict: beta (n,) vapour fraction (1 or 0 single phase), x, y (n, nc)
     liquid and vapour compositions (both = z when single phase),
     two_phase (n,) bool, status (n,), residual (n,) max |ln f^V - ln f^L|,
-    lnK (n, nc) the converged ln K (for warm starts).
+    lnK (n, nc) the converged ln K (for warm starts), iterations (n,) the
+    successive-substitution steps taken (0 for stable feeds).
 
     ``lnK_start`` (n, nc): K-values of a nearby two-phase solution; the
     stability test is then skipped for a first try and run only where the
@@ -427,15 +463,18 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     idx = np.flatnonzero(unstable)
     lnK_out = np.zeros_like(z)
     if idx.size == 0:
-        return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out)
+        return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out,
+                    iterations=np.zeros(n, dtype=np.int64))
     Ti, Pi, zi = T[idx], P[idx], z[idx]
     lnK = lnK0[idx]
     active = np.ones(idx.size, dtype=bool)
     hist = []
+    n_iter = np.zeros(idx.size, dtype=np.int64)
     st = np.full(idx.size, MAXITER, dtype=np.int8)
     b_i = np.full(idx.size, 0.5)
     for it in range(maxiter):
         b_i, braw, xi, yi, new = _phases_from_K(zi, lnK, p, Ti, Pi)
+        n_iter += active
         delta = np.where(zi > 0, new - lnK, 0.0)
         hist.append(delta)
         err = np.max(np.abs(delta), axis=-1)
@@ -492,7 +531,10 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
         raise ConvergenceError("flash_TP", "equal fugacity not reached",
                                dict(T=float(T[k]), P=float(P[k]), beta=float(beta[k]),
                                     x=x[k].tolist(), y=y[k].tolist()), float(resid[k]))
-    return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out)
+    iterations = np.zeros(n, dtype=np.int64)
+    iterations[idx] = n_iter
+    return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out,
+                iterations=iterations)
 
 
 def _flash_warm(T, P, z, p, lnK, tol, maxiter):
@@ -525,7 +567,7 @@ def _flash_warm(T, P, z, p, lnK, tol, maxiter):
             y = y / y.sum(-1, keepdims=True)
             return dict(beta=braw, x=x, y=y, two_phase=np.ones(n, dtype=bool),
                         status=np.zeros(n, dtype=np.int8), residual=np.max(np.abs(delta), axis=-1),
-                        lnK=lnK)
+                        lnK=lnK, iterations=np.full(n, it + 1, dtype=np.int64))
         if it % 5 == 4 and len(hist) >= 2:
             d1_, d0_ = hist[-1], hist[-2]
             lam = (d1_ * d0_).sum(-1) / np.maximum((d0_ * d0_).sum(-1), 1e-300)

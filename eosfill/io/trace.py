@@ -9,7 +9,7 @@ each line by hand and the tests can compare the end values with the State's.
 Equation labels (C1)-(C11) are those of the :mod:`eosfill.cubic` docstring.
 
 >>> import eosfill
->>> from eosfill.trace import trace_state, format_trace
+>>> from eosfill.io.trace import trace_state, format_trace
 >>> lines = trace_state(eosfill.Fluid("nitrogen"), T=300.0, P=1e6)
 >>> print(format_trace(lines))  # doctest: +SKIP
 

@@ -22,8 +22,8 @@ from eosfill.model.components import get_component, kij_matrix
 from eosfill.constants import R
 from eosfill.errors import EosfillError, InputError
 
-PHASES = ("gas", "liquid", "supercritical", "two-phase")
-GAS, LIQUID, SUPERCRITICAL, TWO_PHASE = 0, 1, 2, 3
+PHASES = ("gas", "liquid", "supercritical", "two-phase", "three-phase")
+GAS, LIQUID, SUPERCRITICAL, TWO_PHASE, THREE_PHASE = 0, 1, 2, 3, 4
 
 # Péneloux, Rauzy & Fréze, Fluid Phase Equilib. 8 (1982) 7-23, Eq. 8 (SRK):
 #   c_i = 0.40768 (0.29441 - Z_RA,i) R Tc,i / Pc,i
@@ -79,8 +79,8 @@ class Mixture:
     Examples
     --------
     >>> pure = Mixture("nitrogen", model="SRK")
-    >>> round(pure.single_phase(T=300.0, P=1e5).Z, 4)
-    0.9998
+    >>> round(pure.single_phase(T=300.0, P=1e5).Z, 6)   # thermo 0.6.1 SRK, same constants: 0.999958
+    0.999958
     """
 
     def __init__(self, composition, model="PR", kij=None, basis="mole", normalise=False,
@@ -236,6 +236,71 @@ class Mixture:
         return float(self.Tc[0]), float(self.Pc[0])
 
 
+def phase_kind(fluid: Mixture, T, P, v_eos, x=None, sol=None):
+    """The one label rule of a single-phase state: GAS, LIQUID or SUPERCRITICAL codes.
+
+    Rules, in order (T_pc, P_pc: Kay's-rule pseudo-critical point, Kay 1936):
+
+    1. T ≥ T_pc and P ≥ P_pc: SUPERCRITICAL.
+    2. T ≥ T_pc: GAS.  Above the critical temperature a pure fluid has no
+       liquid branch; Π of rule 4 is not used there because Soave's α turns
+       back up at high reduced temperature (a_T > 0), which flips its sign
+       (water SRK at 2519 K and 5.8 kPa, Z = 1.000006, gave Π > 1).
+    3. T < T_pc and the cubic has two or more admissible roots (Z > B) at
+       (T, P): the branch of the root the state sits on -- the largest root is
+       GAS, any smaller one LIQUID (the van der Waals loop's vapour and liquid
+       branches).
+    4. T < T_pc with one root: Venkatarathnam & Oellrich, Fluid Phase
+       Equilib. 301 (2011) 225-233, Eq. 6: Π > 1 LIQUID, else GAS.
+
+    Where it does not apply exactly: mixtures between their true critical
+    temperature and T_pc (Kay's rule is an estimate of the mixture's critical
+    point), where the label may be the other one; the equilibrium phase split
+    itself never depends on this label.
+
+    Parameters
+    ----------
+    T [K], P [Pa], v_eos [m³/mol] (the cubic's own volume, before any shift)
+    x : composition (nc,) or (..., nc); the fluid's when None.
+    sol : optional result of :func:`cubic.solve_volume_from_TP` at (T, P, x)
+        (its ``roots`` and ``B`` are reused).
+
+    The time-resolved layer calls this with (T, P, v) of its content.
+    """
+    x = fluid.mole_fractions if x is None else np.asarray(x, dtype=float)
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    v_eos = np.asarray(v_eos, dtype=float)
+    p = fluid.params
+    if sol is None or "roots" not in sol:
+        sol = cubic.solve_volume_from_TP(T, P, x, p, which="stable")
+    roots, B = np.asarray(sol["roots"]), np.asarray(sol["B"])
+    with np.errstate(invalid="ignore"):
+        admissible = np.isfinite(roots) & (roots > B[..., None])
+    n_roots = admissible.sum(axis=-1)
+    Z = P * v_eos / (R * T)
+    Zmax = np.where(admissible, roots, -np.inf).max(axis=-1)
+    on_largest = np.abs(Z - Zmax) <= 1e-9 * np.maximum(np.abs(Zmax), 1e-300) + 1e-12
+    if "Pi" in sol:   # the compiled kernel's Π at the same state
+        Pi = sol["Pi"]
+    else:
+        if "a_T" in sol:
+            a, a_T, b = sol["a"], sol["a_T"], sol["b"]
+        else:
+            a, a_T = cubic.mixture_a(T, x, p, derivatives=1)[:2]
+            b = cubic.mixture_b(x, p)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            Pi = cubic.phase_identification_parameter(T, v_eos, a, a_T, b, p.model)
+    if np.ndim(x) == 1:
+        Tpc, Ppc = float(x @ fluid.Tc), float(x @ fluid.Pc)
+    else:
+        Tpc, Ppc = x @ fluid.Tc, x @ fluid.Pc
+    code = np.where(n_roots >= 2, np.where(on_largest, GAS, LIQUID), np.where(Pi > 1.0, LIQUID, GAS))
+    code = np.where(T >= Tpc, GAS, code)
+    code = np.where((T >= Tpc) & (P >= Ppc), SUPERCRITICAL, code)
+    return code.astype(np.int8)
+
+
 def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     from eosfill.model import properties as kp
 
@@ -253,19 +318,12 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
                B=rows[..., kp.TP_BDIM], roots=rows[..., kp.TP_R0:kp.TP_R2 + 1],
                choice=rows[..., kp.TP_CHOICE].astype(np.int8),
                dPdT=rows[..., kp.TP_DPDT], dPdv=rows[..., kp.TP_DPDV], cv=rows[..., kp.TP_CV],
-               cp=rows[..., kp.TP_CP])
+               cp=rows[..., kp.TP_CP], Pi=rows[..., kp.TP_PI])
     hR, sR = rows[..., kp.TP_H_RES], rows[..., kp.TP_S_RES]
     st = State(fluid)
     st._set(T=T, P=P, v=rows[..., kp.TP_V], h=rows[..., kp.TP_H], u=rows[..., kp.TP_U], s=rows[..., kp.TP_S],
             beta=None, x=x_arr, sol=sol, h_res=hR, s_res=sR, v_eos=sol["v"], shift=rows[..., kp.TP_SHIFT])
-    # phase label (Venkatarathnam & Oellrich 2011 Π; Kay's rule pseudo-critical)
-    if np.ndim(x) == 1:
-        Tpc, Ppc = float(x @ fluid.Tc), float(x @ fluid.Pc)
-    else:
-        Tpc, Ppc = x @ fluid.Tc, x @ fluid.Pc
-    Pi = rows[..., kp.TP_PI]
-    code = np.where(Pi > 1.0, LIQUID, GAS)
-    code = np.where((T >= Tpc) & (P >= Ppc), SUPERCRITICAL, code)
+    code = phase_kind(fluid, T, P, sol["v"], x, sol=sol)
     st._phase_code = code.astype(np.int8)
     st._beta = np.where(code == LIQUID, 0.0, 1.0)
     return st
@@ -284,15 +342,66 @@ class State:
         "gas", "liquid", "supercritical" or "two-phase".
     vapor_fraction : molar vapour fraction β (1 single-phase gas, 0 liquid).
     liquid, vapour : State or None
-        The two phases of two-phase rows (None when no row is two-phase).
-        In rows that are single-phase both hold that single phase.
+        The two phases of two-phase rows (None when no row is two-phase):
+        ``vapour`` the less dense, ``liquid`` the denser (both may be liquids,
+        see each one's ``phase``); in three-phase rows ``vapour`` is the least
+        dense and ``liquid`` the next.  In single-phase rows both hold that
+        single phase.
+    phases : list of State or None
+        Every phase of a split, least dense first (length: the largest phase
+        count of the batch); ``phase_fractions`` (..., n) their molar fractions
+        β (0 where a row has fewer phases); ``n_phases`` the count per row.
     """
 
     def __init__(self, fluid: Mixture):
         self.fluid = fluid
         self.liquid = None
         self.vapour = None
+        self.phases = None
+        self._phase_fractions = None
         self.solver_info = {}
+        # per-row solver outcome (codes of eosfill.errors), set by the state solvers
+        self.status_array = None
+        self.residual_array = None
+        self.iterations_array = None
+
+    # --- solver outcome ------------------------------------------------------
+    @property
+    def status(self):
+        """Solver status per row (int codes of :mod:`eosfill.errors`: 0 converged
+        and verified, 1 out of range, 2 no solution, 3 not converged); a
+        single-phase evaluation with no solver is 0."""
+        if self.status_array is None:
+            return _out(np.zeros(np.shape(self._T), dtype=np.int8))
+        return _out(self.status_array)
+
+    @property
+    def status_text(self):
+        """:attr:`status` in words."""
+        from eosfill.errors import STATUS_TEXT
+
+        codes = np.asarray(self.status)
+        text = np.vectorize(STATUS_TEXT.get, otypes=[object])(codes) if codes.ndim else STATUS_TEXT[int(codes)]
+        return text
+
+    @property
+    def residual(self):
+        """Per row: the largest relative miss on the two specifications, or the
+        phase-equilibrium residual (max |Δ ln f| between phases, material
+        balance) of the flash under the state when that is larger."""
+        if self.residual_array is None:
+            return _out(np.zeros(np.shape(self._T)))
+        return _out(self.residual_array)
+
+    @property
+    def iterations(self):
+        """Iterations of the multiphase flash's phase-split loop under each row
+        (0 where the state needed none: single-phase rows, pure fluids).  The
+        outer 1-D searches are bounded (200 steps) and raise or flag when
+        they do not converge; their counts are not recorded here."""
+        if self.iterations_array is None:
+            return _out(np.zeros(np.shape(self._T), dtype=np.int64))
+        return _out(self.iterations_array)
 
     def _set(self, T, P, v, h, u, s, beta, x, sol=None, h_res=None, s_res=None, v_eos=None, shift=None):
         self._T, self._P, self._v, self._h, self._u, self._s = T, P, v, h, u, s
@@ -335,6 +444,19 @@ class State:
         """Phase label(s): "gas", "liquid", "supercritical" or "two-phase"."""
         labels = np.asarray(PHASES, dtype=object)[np.asarray(self._phase_code)]
         return labels if isinstance(labels, np.ndarray) and labels.ndim else str(labels)
+
+    @property
+    def n_phases(self):
+        """Number of phases per row."""
+        code = np.asarray(self._phase_code)
+        return _out(np.where(code == THREE_PHASE, 3, np.where(code == TWO_PHASE, 2, 1)))
+
+    @property
+    def phase_fractions(self):
+        """Molar fraction β of each phase of :attr:`phases`, shape (..., n)."""
+        if self._phase_fractions is None:
+            return np.ones(np.shape(self._T) + (1,))
+        return self._phase_fractions
 
     @property
     def vapor_fraction(self):
@@ -395,8 +517,8 @@ class State:
 
     # --- single-phase derivative properties --------------------------------
     def _require_single(self, what):
-        if self._sol is None or np.any(self._phase_code == TWO_PHASE):
-            rows = np.argwhere(np.atleast_1d(self._phase_code) == TWO_PHASE).ravel()[:5].tolist()
+        if self._sol is None or np.any(self._phase_code >= TWO_PHASE):
+            rows = np.argwhere(np.atleast_1d(self._phase_code) >= TWO_PHASE).ravel()[:5].tolist()
             raise EosfillError(
                 f"{what} is a single-phase property; rows {rows} are two-phase "
                 "(use state.liquid / state.vapour)")

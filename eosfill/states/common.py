@@ -11,6 +11,10 @@ from eosfill.errors import ConvergenceError, InputError
 from eosfill.model.mixture import LIQUID, TWO_PHASE, Mixture, State, _out
 
 _ILLINOIS_MAXITER = 200
+# upper end of every 1-D search in T [K]: the ideal-gas Cp° polynomials are
+# held constant beyond their fitted range (RangeWarning), so higher T only
+# extrapolates further; 1e4 K covers combustion-like temperatures with margin
+_T_SEARCH_MAX = 1.0e4
 
 
 # --------------------------------------------------------------------------
@@ -87,11 +91,12 @@ def illinois(f, lo, hi, flo, fhi, xtol, ftol, maxiter=_ILLINOIS_MAXITER):
 # --------------------------------------------------------------------------
 def _T_bounds(fluid: Mixture):
     """Search range in T [K] for 1-D solves: well below the lowest critical
-    temperature to twice the highest Cp° validity limit."""
+    temperature up to ``_T_SEARCH_MAX``, the same range the (T, P) and (T, v)
+    entries accept (above the Cp° correlation's range the ideal-gas part is
+    extended with a RangeWarning, as there), so every state those return can be
+    found again from any other pair."""
     lo = max(1.0, 0.4 * float(np.min(fluid.Tc)))
-    hi = max(2.0 * float(np.max(fluid.cp_Tmax)), 3.0 * float(np.max(fluid.Tc)))
-    hi = min(hi, 5.0e3)
-    return lo, hi
+    return lo, _T_SEARCH_MAX
 
 def _negative_pressure(P):
     i = np.flatnonzero(np.atleast_1d(P) <= 0)[0]

@@ -13,20 +13,54 @@ from eosfill.constants import R
 from eosfill.errors import ConvergenceError, InputError
 from eosfill.model.mixture import Mixture
 from eosfill.model.mixture import _out
-from eosfill.states.common import _T_bounds, _compose, _raise_if, illinois, props_TP, props_Tv
+from eosfill.equilibrium import multiphase
+from eosfill.model.mixture import GAS, SUPERCRITICAL, THREE_PHASE, TWO_PHASE, State
+from eosfill.states.common import _T_bounds, _compose, _merge, _raise_if, illinois, props_TP, props_Tv
 
-def _mixture_from_flash(fluid: Mixture, T, P, fl):
-    """State of a mixture from a TP flash result (arrays of shape (n,))."""
-    two = fl["two_phase"]
+def _mixture_from_flash(fluid: Mixture, T, P, fl=None):
+    """State of a mixture at (T, P) (arrays of shape (n,)) from the multiphase
+    flash (:func:`eosfill.equilibrium.multiphase.flash_multiphase_TP`).
+
+    ``fl`` (a two-phase flash result) is accepted for the callers' sake and
+    ignored: the multiphase flash starts from its own two-phase flash and
+    tests the result's stability."""
+    mf = multiphase.flash_multiphase_TP(T, P, fluid.mole_fractions, fluid.params)
+    return _state_from_multiflash(fluid, T, P, mf)
+
+
+def _state_from_multiflash(fluid, T, P, mf):
+    """Overall State from a multiphase flash result: β-weighted v, h, u, s;
+    ``phases`` (least dense first), ``phase_fractions``; ``vapour``/``liquid``
+    the least dense and the next phase of split rows; vapour fraction = the
+    summed β of the phases labelled gas (or supercritical)."""
     stable = fluid.single_phase(T, P)
-    if not np.any(two):
+    nph = mf["n_phases"]
+    split = nph > 1
+    stable.iterations_array = mf["iterations"]
+    if not np.any(split):
+        stable.solver_status, stable.solver_residual = mf["status"], mf["residual"]
         return stable
-    z = np.broadcast_to(fluid.mole_fractions, fl["x"].shape)
-    x = np.where(two[:, None], fl["x"], z)
-    y = np.where(two[:, None], fl["y"], z)
-    liq = fluid.single_phase(T, P, x=x)
-    vap = fluid.single_phase(T, P, x=y)
-    return _compose(fluid, stable, liq, vap, two, fl["beta"])
+    kmax = int(nph.max())
+    phases = [fluid.single_phase(T, P, x=mf["X"][:, k]) for k in range(kmax)]
+    beta = mf["beta"][:, :kmax]
+    st = State(fluid)
+    vals = {}
+    for key in ("_v", "_h", "_u", "_s"):
+        tot = sum(beta[:, k] * getattr(phases[k], key) for k in range(kmax))
+        vals[key] = np.where(split, tot, getattr(stable, key))
+    gas_like = np.stack([(ph._phase_code == GAS) | (ph._phase_code == SUPERCRITICAL) for ph in phases], axis=-1)
+    bV = np.where(split, (beta * gas_like).sum(axis=-1), stable._beta)
+    st._set(T=stable._T, P=stable._P, v=vals["_v"], h=vals["_h"], u=vals["_u"], s=vals["_s"],
+            beta=bV, x=np.broadcast_to(fluid.mole_fractions, np.shape(stable._T) + (fluid.nc,)),
+            sol=stable._sol, h_res=stable._h_res, s_res=stable._s_res)
+    st._phase_code = np.where(nph >= 3, THREE_PHASE, np.where(split, TWO_PHASE, stable._phase_code)).astype(np.int8)
+    st.vapour = _merge(fluid, stable, phases[0], split)
+    st.liquid = _merge(fluid, stable, phases[1], split)
+    st.phases = [_merge(fluid, stable, ph, nph > k) for k, ph in enumerate(phases)]
+    st._phase_fractions = np.where(split[:, None], beta, np.eye(kmax)[0][None, :])
+    st.iterations_array = mf["iterations"]
+    st.solver_status, st.solver_residual = mf["status"], mf["residual"]
+    return st
 
 
 class _MixtureEvaluator:
@@ -39,19 +73,9 @@ class _MixtureEvaluator:
         self.calls = 0
 
     def __call__(self, T, P):
-        f = self.fluid
         self.calls += 1
-        Ta, Pa = np.array([T]), np.array([P])
-        fl = equilibrium.flash_TP(Ta, Pa, f.mole_fractions, f.params,
-                                  lnK_start=None if self.lnK is None else self.lnK[None, :])
-        if not fl["two_phase"][0]:
-            pr = props_TP(f, Ta, Pa)
-            return {k: float(pr[k][0]) for k in ("u", "h", "s", "v")}
-        self.lnK = fl["lnK"][0]
-        b = fl["beta"][0]
-        L = props_TP(f, Ta, Pa, x=fl["x"])
-        V = props_TP(f, Ta, Pa, x=fl["y"])
-        return {k: float(b * V[k][0] + (1 - b) * L[k][0]) for k in ("u", "h", "s", "v")}
+        q, _ = _flash_props(self.fluid, np.array([T]), np.array([P]))
+        return {k: float(q[k][0]) for k in ("u", "h", "s", "v")}
 
 
 def _mixture_fixed_P(fluid, P, key, target):
@@ -74,27 +98,34 @@ def _mixture_fixed_P(fluid, P, key, target):
                          f"between T = {Tlo:.4g} and {Thi:.4g} K")
     T, fx, ok = illinois(f1, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
     _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), fx)
-    unstable, _, _ = equilibrium.stability_test(T, P, np.broadcast_to(fluid.mole_fractions, (n, fluid.nc)),
-                                                fluid.params)
+    unstable = multiphase.unstable(T, P, fluid.mole_fractions, fluid.params)
     idx = np.flatnonzero(unstable)
     if idx.size:
         Tb, done = _mixture_fixed_P_two_phase_batch(fluid, P[idx], key, target[idx], scale)
         T[idx] = Tb
         for i in idx[~done]:  # rows the batch could not bracket: one at a time
             T[i] = _mixture_fixed_P_two_phase(fluid, float(P[i]), key, float(target[i]), float(T[i]), scale)
-    fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params)
-    return _mixture_from_flash(fluid, T, P, fl)
+    return _mixture_from_flash(fluid, T, P)
 
 
 def _flash_props(fluid, T, P, quick=False):
-    """Overall u, h, s, v on a batch of (T, P) from one vectorised flash
-    (``quick``: bounded successive substitution only, for grids)."""
-    kw = dict(maxiter=60, second_order=False) if quick else {}
-    fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params, raise_on_fail=False, **kw)
-    b = fl["beta"]
-    L = props_TP(fluid, T, P, x=fl["x"])
-    V = props_TP(fluid, T, P, x=fl["y"])
-    return {k: b * V[k] + (1 - b) * L[k] for k in ("u", "h", "s", "v")}, fl
+    """Overall u, h, s, v on a batch of (T, P): the multiphase flash
+    (``quick``: bounded two-phase successive substitution only, for the
+    bracketing grids; the searches then refine with the full flash)."""
+    if quick:
+        fl = equilibrium.flash_TP(T, P, fluid.mole_fractions, fluid.params, raise_on_fail=False,
+                                  maxiter=60, second_order=False)
+        b = fl["beta"]
+        L = props_TP(fluid, T, P, x=fl["x"])
+        V = props_TP(fluid, T, P, x=fl["y"])
+        return {k: b * V[k] + (1 - b) * L[k] for k in ("u", "h", "s", "v")}, fl
+    mf = multiphase.flash_multiphase_TP(T, P, fluid.mole_fractions, fluid.params)
+    out = {k: 0.0 for k in ("u", "h", "s", "v")}
+    for k in range(int(mf["n_phases"].max())):
+        pr = props_TP(fluid, T, P, x=mf["X"][:, k])
+        for q in out:
+            out[q] = out[q] + mf["beta"][:, k] * pr[q]
+    return out, mf
 
 
 def _mixture_fixed_P_two_phase_batch(fluid, P, key, target, scale, n_grid=40):
@@ -180,7 +211,7 @@ def _unstable_at_Tv(fluid, T, P, v_eos, z):
     is the lowest-Gibbs root at its own (T, P) and the tangent-plane test
     finds no phase of lower Gibbs energy (Michelsen 1982)."""
     wrong_root = np.abs(props_TP(fluid, T, P, z)["v_eos"] - v_eos) > 1e-7 * v_eos
-    us, _, _ = equilibrium.stability_test(T, P, z, fluid.params)
+    us = multiphase.unstable(T, P, z, fluid.params)
     return us | wrong_root
 
 
@@ -222,8 +253,7 @@ def _mixture_fixed_v(fluid, v, key, target):
     for i in np.flatnonzero(unstable):
         T[i], Pn[i] = _mixture_fixed_v_two_phase(fluid, float(v[i]), key, float(target[i]),
                                                   float(T[i]), float(P[i]), scale)
-    fl = equilibrium.flash_TP(T, Pn, x, fluid.params)
-    st = _mixture_from_flash(fluid, T, Pn, fl)
+    st = _mixture_from_flash(fluid, T, Pn)
     return st
 
 
@@ -257,8 +287,7 @@ def _mixture_TV(fluid, T, v):
         if np.sign(g(lo)) == np.sign(g(hi)):
             lo, hi = np.log(1e2), np.log(1e9)
         P[i] = np.exp(brentq(g, lo, hi, xtol=1e-14, rtol=1e-14, maxiter=300))
-    fl = equilibrium.flash_TP(T, P, x, fluid.params)
-    return _mixture_from_flash(fluid, T, P, fl)
+    return _mixture_from_flash(fluid, T, P)
 
 
 def _grid_props(fluid, T, P):

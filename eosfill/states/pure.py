@@ -12,7 +12,7 @@ import numpy as np
 
 from eosfill.equilibrium import solvers as equilibrium
 from eosfill.constants import R
-from eosfill.errors import CONVERGED, InputError
+from eosfill.errors import CONVERGED, NOT_CONVERGED, ConvergenceError, InputError
 from eosfill.model.mixture import Mixture
 from eosfill.model.mixture import _out
 from eosfill.states.common import _T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP, props_Tv
@@ -30,9 +30,11 @@ def _pure_Tv(fluid: Mixture, T, v):
     vL = np.full(T.shape, np.nan)
     vV = np.full(T.shape, np.nan)
     Psat = np.full(T.shape, np.nan)
+    sat_failed = np.zeros(T.shape, dtype=bool)
     if np.any(sub):
         sat = equilibrium.saturation_pressure(T[sub], p, raise_on_fail=False)
         ok = sat["status"] == equilibrium.CONVERGED
+        sat_failed[sub] = ~ok  # the split cannot be decided there: say so
         vL[sub] = np.where(ok, sat["v_L"], np.nan)
         vV[sub] = np.where(ok, sat["v_V"], np.nan)
         Psat[sub] = sat["P"]
@@ -47,7 +49,7 @@ def _pure_Tv(fluid: Mixture, T, v):
             out[k][two] = bt * V[k] + (1.0 - bt) * L[k]
         out["P"][two] = Psat[two]
         out["h"][two] = out["u"][two] + Psat[two] * v[two]
-    out.update(two=two, beta=beta, Psat=Psat, vL=vL, vV=vV)
+    out.update(two=two, beta=beta, Psat=Psat, vL=vL, vV=vV, sat_failed=sat_failed)
     return out
 
 
@@ -113,7 +115,15 @@ def _pure_fixed_v_scalar(fluid: Mixture, v, key, target):
 
 
 def _assemble_pure(fluid: Mixture, T, st):
-    """Build the State of a pure fluid from (T, P, split) arrays."""
+    """Build the State of a pure fluid from (T, P, split) arrays; rows whose
+    saturation pressure did not converge carry NOT_CONVERGED."""
+    out = _assemble_pure_state(fluid, T, st)
+    if "sat_failed" in st:
+        out.solver_status = np.where(st["sat_failed"], NOT_CONVERGED, CONVERGED).astype(np.int8)
+    return out
+
+
+def _assemble_pure_state(fluid: Mixture, T, st):
     P = st["P"]
     two = st["two"]
     if not np.any(two):
@@ -142,6 +152,7 @@ def _pure_fixed_P(fluid: Mixture, P, key, target):
     two = np.zeros(n, dtype=bool)
     side_hi = np.full(n, Thi)
     side_lo = np.full(n, Tlo)
+    sat_failed = np.zeros(n, dtype=bool)
     sub = P < Pc * (1.0 - 1e-9)
     if np.any(sub):
         Ts, st_ok = equilibrium.saturation_temperature(P[sub], p, raise_on_fail=False)
@@ -151,6 +162,7 @@ def _pure_fixed_P(fluid: Mixture, P, key, target):
         lo_k, hi_k = L[key], V[key]
         inside = (st_ok == equilibrium.CONVERGED) & (tg >= lo_k) & (tg <= hi_k)
         idx = np.flatnonzero(sub)
+        sat_failed[idx[st_ok != equilibrium.CONVERGED]] = True
         two[idx[inside]] = True
         T[idx[inside]] = Ts[inside]
         with np.errstate(invalid="ignore", divide="ignore"):
@@ -178,7 +190,9 @@ def _pure_fixed_P(fluid: Mixture, P, key, target):
         Tr, fx, ok = illinois(f, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
         _raise_if(ok, f"P-{key} solve", dict(P=Pr, T=Tr), fx)
         T[rest] = Tr
-    return _pure_split_state(fluid, T, P, two, beta)
+    out = _pure_split_state(fluid, T, P, two, beta)
+    out.solver_status = np.where(sat_failed, NOT_CONVERGED, CONVERGED).astype(np.int8)
+    return out
 
 
 def _pure_split_state(fluid: Mixture, T, P, two, beta):
