@@ -428,7 +428,7 @@ def test_time_resolved_result_keeps_the_worst_solver_status(monkeypatch):
     def flagged(self, **spec):
         st = original(self, **spec)
         if "u" in spec:
-            st.status = NOT_CONVERGED
+            st.status_array = np.full(np.shape(st.T), NOT_CONVERGED, dtype=np.int8)
         return st
 
     monkeypatch.setattr(Fluid, "state", flagged)

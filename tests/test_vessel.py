@@ -407,7 +407,7 @@ def test_result_keeps_the_worst_solver_status(monkeypatch, run):
     def flagged(self, **spec):
         st = original(self, **spec)
         if "v" in spec and "T" not in spec:
-            st.status = NOT_CONVERGED
+            st.status_array = np.full(np.shape(st.T), NOT_CONVERGED, dtype=np.int8)
         return st
 
     monkeypatch.setattr(Fluid, "state", flagged)
