@@ -320,3 +320,95 @@ def test_bad_inputs():
         vent(Vessel(0.05), sup, target=300e5)
     with pytest.raises(eosfill.InputError, match="P, mass"):
         Stream(N2, 300.0)
+
+
+# --------------------------------------------------------------------------
+# closure against an independent recomputation (issue 10: results that do not close are refused)
+# --------------------------------------------------------------------------
+def test_fill_with_wall_from_a_40000_bar_supply_closes():
+    """Regression (issue 10): a 40,000 bar nitrogen supply into an empty vessel with a wall
+    reported T_f = T_w0 with an energy closure of -40 (the gas-alone temperature passed
+    the inverse solver's range and the wall balance was skipped).  Consistency: the end
+    state now meets (V2), checked against the independent recomputation, and is hotter
+    than the wall's start."""
+    r = fill(Vessel(0.05, wall_heat_capacity=62 * 480, wall_temperature=288.15), Stream(N2, 293.15, P=4e9),
+             None, stop="target_pressure", target=1e8)
+    assert abs(r.energy_closure) < 1e-9 and abs(r.mass_closure) < 1e-9
+    assert r.final.T > 300.0 and r.final.P == pytest.approx(1e8, rel=1e-9)
+
+
+def _shift_reported_T(monkeypatch, dT):
+    from eosfill.vessel import balances
+
+    original = balances.EndState.of.__func__
+
+    def shifted(cls, fluid, st, n, V, wall=None):
+        es = original(cls, fluid, st, n, V, wall)
+        es.T += dT
+        return es
+
+    monkeypatch.setattr(balances.EndState, "of", classmethod(shifted))
+
+
+@pytest.mark.parametrize("run", [
+    lambda: fill(Vessel(0.05), Stream(N2, 293.15, P=300e5), Stream(N2, 288.15, P=10e5),
+                 stop="target_pressure", target=200e5),
+    lambda: vent(Vessel(0.05), Stream(N2, 288.15, P=200e5), stop="target_pressure", target=20e5),
+    lambda: cascade_fill(Vessel(0.05), [Bank(0.2, Stream(N2, 293.15, P=250e5)),
+                                        Bank(0.2, Stream(N2, 293.15, P=300e5))],
+                         Stream(N2, 288.15, P=10e5), stop="target_pressure", target=200e5, compare=False),
+])
+def test_a_result_whose_states_do_not_close_is_refused(monkeypatch, run):
+    """Consistency with teeth: with the reported temperature of every state 0.05 K off its
+    solved value (a fault injected into the result), the independent recomputation of the
+    balances no longer closes and the result is refused with ConvergenceError carrying the
+    figures, instead of being returned."""
+    from eosfill.errors import ConvergenceError
+
+    run()   # closes as computed
+    _shift_reported_T(monkeypatch, 0.05)
+    with pytest.raises(ConvergenceError) as e:
+        run()
+    assert "energy_closure" in e.value.last_iterate and "refused" in str(e.value)
+    assert abs(e.value.last_iterate["energy_closure"]) > 1e-6
+
+
+def test_cli_maps_a_refused_result_to_exit_3(monkeypatch, tmp_path, capsys):
+    """The command line refuses an unclosed result with exit code 3 and writes nothing."""
+    from pathlib import Path
+
+    from eosfill.io import cli
+
+    demo = Path(__file__).resolve().parents[1] / "data" / "scenarios" / "cylinder_fill_residual.toml"
+    out = tmp_path / "r.json"
+    _shift_reported_T(monkeypatch, 0.05)
+    assert cli.main(["run", str(demo), "--json", str(out)]) == 3
+    assert "refused" in capsys.readouterr().err and not out.exists()
+
+
+@pytest.mark.parametrize("run", [
+    lambda: fill(Vessel(0.05), Stream(N2, 293.15, P=300e5), Stream(N2, 288.15, P=10e5),
+                 stop="target_pressure", target=200e5),
+    lambda: vent(Vessel(0.05), Stream(N2, 288.15, P=200e5), stop="target_pressure", target=20e5),
+    lambda: cascade_fill(Vessel(0.05), [Bank(0.2, Stream(N2, 293.15, P=300e5))],
+                         Stream(N2, 288.15, P=10e5), stop="target_pressure", target=200e5, compare=False),
+])
+def test_result_keeps_the_worst_solver_status(monkeypatch, run):
+    """Consistency (issue 10): a result keeps the worst status of the states it used
+    (eosfill.errors codes); with the solver reporting NOT_CONVERGED on one kind of state
+    (the (u, v) or (s, v) solves, injected), the result says so in a field and its summary."""
+    from eosfill.errors import CONVERGED, NOT_CONVERGED
+    from eosfill.states.fluid import Fluid
+
+    assert run().status == CONVERGED
+    original = Fluid.state
+
+    def flagged(self, **spec):
+        st = original(self, **spec)
+        if "v" in spec and "T" not in spec:
+            st.status = NOT_CONVERGED
+        return st
+
+    monkeypatch.setattr(Fluid, "state", flagged)
+    r = run()
+    assert r.status == NOT_CONVERGED and "not converged" in r.summary()

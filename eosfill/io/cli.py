@@ -330,6 +330,9 @@ def build_parser() -> argparse.ArgumentParser:
                    "energy balance with every number, then the end state's trace (kinds fill, cascade_fill, "
                    "liquefied_fill, vent)")
     p.set_defaults(func=cmd_explain)
+    from eosfill.io.sweep_cli import add_sweep_command  # studies: eosfill sweep (eosfill.io.sweep_cli)
+
+    add_sweep_command(sub)
     return parser
 
 

@@ -516,7 +516,8 @@ class _Context:
 
 
 _TOP = ("schema_version", "kind", "title", "description", "fluid", "vessel", "initial", "supply",
-        "banks", "cascade", "stop", "ambient", "limits", "output", "transient")
+        "banks", "cascade", "stop", "ambient", "limits", "output", "transient",
+        "sweep")  # [sweep]: read by eosfill.io.sweep (eosfill sweep); a single run ignores it
 
 
 def load_scenario(path) -> Scenario:

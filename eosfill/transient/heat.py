@@ -35,7 +35,22 @@ Inner coefficients (:class:`InnerCoefficient` implementations):
   The constants a = 0.56, b = 0.67, c = 0.104, e = 0.352 are **from
   memory** (not verified against the paper); pass your own.  It needs the
   gas viscosity and thermal conductivity, which eosfill does not model:
-  the caller gives them (a representative value for the run).
+  the caller gives them (a representative value for the run).  The gas's
+  own isobaric heat capacity and thermal expansion come from the equation
+  of state at each instant (:func:`isobaric_expansion`).
+
+Rayleigh number on a length L (Incropera & DeWitt, *Fundamentals of Heat
+and Mass Transfer*, 6th ed., Eq. 9.25, equation number from memory):
+
+    Ra_L = g β |T_w − T| L³ / (ν α),  ν = μ/ρ,  α = k/(ρ c_p)           (H3)
+
+with β = (1/v)(∂v/∂T)_P the volumetric thermal expansion coefficient,
+which for a real gas follows from the equation of state by the
+triple-product rule
+
+    β = −(∂P/∂T)_v / (v (∂P/∂v)_T)                                      (H4)
+
+and is 1/T for an ideal gas (P v = R T).
 """
 from __future__ import annotations
 
@@ -57,6 +72,28 @@ def _nonneg(name, value, strict=False):
     if not math.isfinite(v) or v < 0.0 or (strict and v == 0.0):
         raise InputError(name, value, "a number > 0" if strict else "a number ≥ 0")
     return v
+
+
+def isobaric_expansion(v, dPdT_v, dPdv_T):
+    """Volumetric thermal expansion β = (1/v)(∂v/∂T)_P [1/K] from the equation of state (H4).
+
+    Parameters
+    ----------
+    v : molar volume [m³/mol] (the fluid's own, after any volume shift)
+    dPdT_v : (∂P/∂T)_v [Pa/K];  dPdv_T : (∂P/∂v)_T [Pa mol/m³] (< 0 where the phase is stable)
+
+    β = −(∂P/∂T)_v / (v (∂P/∂v)_T) (triple-product rule); 1/T for an ideal gas.
+    A constant volume shift c leaves both derivatives unchanged (v_eos = v + c).
+    """
+    return -np.asarray(dPdT_v, dtype=float) / (np.asarray(v, dtype=float) * np.asarray(dPdv_T, dtype=float))
+
+
+def rayleigh_number(L, T_gas, T_wall, rho, cp_mass, beta, mu, k):
+    """Ra_L = g β |T_w − T| L³ ρ² c_p / (μ k) = g β ΔT L³/(ν α) (H3) [-].
+
+    L [m], T_gas, T_wall [K], rho [kg/m³], cp_mass [J/(kg K)], beta [1/K],
+    mu [Pa s], k [W/(m K)]."""
+    return G_STANDARD * beta * abs(T_wall - T_gas) * L**3 * rho**2 * cp_mass / (mu * k)
 
 
 # --------------------------------------------------------------------------
@@ -100,8 +137,13 @@ class JetNaturalConvection:
         (representative values; eosfill has no transport-property model)
     a, b, c, e : constants (defaults from memory, see the module docstring)
 
-    Re_d = 4 ṁ/(π d μ);  Ra_D = g β |T_w − T| D³ ρ² cp /(μ k), β = 1/T (ideal-gas
-    expansion coefficient; common practice, no source).
+    Re_d = 4 ṁ/(π d μ);  Ra_D = g β |T_w − T| D³ ρ² c_p /(μ k) (H3).
+
+    Called with the gas state: ``rho`` [kg/m³], ``cp_mass`` [J/(kg K)] and
+    ``beta`` [1/K], the gas's isobaric heat capacity and thermal expansion
+    from the equation of state ((H4); :mod:`eosfill.transient` passes them
+    at every instant).  ``beta=None`` takes the ideal-gas value 1/T; a
+    temperature difference without ``cp_mass`` is an error.
     """
 
     D: float
@@ -117,9 +159,19 @@ class JetNaturalConvection:
         for name in ("D", "d_inlet", "mu", "k"):
             setattr(self, name, _nonneg(name, getattr(self, name), strict=True))
 
-    def __call__(self, flowing, mdot=0.0, T_gas=300.0, T_wall=300.0, rho=1.0, cp_mass=1000.0, **_):
+    def rayleigh(self, T_gas, T_wall, rho, cp_mass, beta=None):
+        """Ra_D (H3) on the vessel's inner diameter; ``beta=None``: ideal gas, 1/T_gas."""
+        beta = 1.0 / T_gas if beta is None else beta
+        return rayleigh_number(self.D, T_gas, T_wall, rho, cp_mass, beta, self.mu, self.k)
+
+    def __call__(self, flowing, mdot=0.0, T_gas=300.0, T_wall=300.0, rho=1.0, cp_mass=None, beta=None, **_):
         Re = 4.0 * abs(mdot) / (math.pi * self.d_inlet * self.mu) if flowing else 0.0
-        Ra = G_STANDARD / T_gas * abs(T_wall - T_gas) * self.D**3 * rho**2 * cp_mass / (self.mu * self.k)
+        if T_wall == T_gas:
+            Ra = 0.0
+        elif cp_mass is None:
+            raise InputError("cp_mass", None, "the gas's isobaric heat capacity [J/(kg K)] for the Rayleigh number")
+        else:
+            Ra = self.rayleigh(T_gas, T_wall, rho, cp_mass, beta)
         Nu = self.a * Re**self.b + self.c * Ra**self.e
         return Nu * self.k / self.D
 

@@ -48,8 +48,8 @@ import numpy as np
 
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, EosfillError, InputError, LimitWarning
-from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, surface_exchange
+from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, EosfillError, InputError, LimitWarning, worst_status
+from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, isobaric_expansion, surface_exchange
 
 CAUTION = ("Caution: estimates from an equation of state and simplified heat-transfer models; local "
            "codes, the vessel's approval documents and licensed practice govern.")
@@ -157,12 +157,15 @@ class TransientResult:
     complete: bool = True
     mass_closure: float = float("nan")
     energy_closure: float = float("nan")
+    state_residual: float = 0.0
+    closure_tolerance: float = float("nan")
     mass_in: float = 0.0
     mass_out: float = 0.0
     heat_from_ambient: float = 0.0
     flags: list = field(default_factory=list)
     description: list = field(default_factory=list)
     n_rhs: int = 0
+    status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
 
     # peaks
     def peak(self, name, which="max"):
@@ -208,6 +211,8 @@ class TransientResult:
         lines.append(f"closure (relative): mass {self.mass_closure:.2e}, energy {self.energy_closure:.2e}")
         if self.liquid_appeared:
             lines.append("a liquid phase appears (homogeneous equilibrium assumed)")
+        if self.status != CONVERGED:
+            lines.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
         for f in self.flags:
             lines.append(f"FLAG: {f}")
         lines.append(CAUTION)
@@ -295,7 +300,8 @@ class _Content:
         T, P = float(st.T), float(st.P)
         self.T_last = T
         return dict(T=T, P=P, h=u + P * v, u=u, v=v, v_eos=v_eos, x=x, n=n, beta=float(st.vapor_fraction),
-                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f)
+                    kernel=k, pr=None, single=st.phase != "two-phase", phase=st.phase, fluid_x=f, s=float(st.s),
+                    status=int(worst_status(getattr(st, "status", CONVERGED))))
 
     def _maybe_two_phase(self, T, P, v_eos, x):
         """Phase check of a single-phase (T, v) solution (pure: saturation curve;
@@ -375,6 +381,8 @@ class _Model:
                 c.T_last = s.temperature
                 self.bank_contents.append(c)
         self._nozzle_cache = {}
+        self._isentrope_tables = {}
+        self.status = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
         self.n_rhs = 0
         self.range_warning = False
 
@@ -402,6 +410,7 @@ class _Model:
         c = self.bank_contents[j]
         nb, Ub = y[self.ib + 2 * j], y[self.ib + 2 * j + 1]
         st = c.state(nb * c._kernel.x, Ub)
+        self.status = worst_status(self.status, st.get("status"))
         return dict(P=st["P"], T=st["T"], h=st["h"], kernel=st["kernel"], v_eos=st["v_eos"], x=st["x"],
                     pr=st["pr"], key=None, bank=j, st=st)
 
@@ -435,25 +444,45 @@ class _Model:
             hit = self._nozzle_cache.get("noz")
             if hit is not None and hit[0] == key:
                 return hit[1]
+        tables = self._isentropes(up["x"])
         if up.get("pr") is None:
             st = up["st"]
             f = st.get("fluid_x") or self.fluid
-            s0 = float(f.state(T=st["T"], v=st["v"]).s)
-            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0,
-                                                          hint=getattr(self, "_throat_hint", None))
+            s0 = st["s"] if "s" in st else float(f.state(T=st["T"], v=st["v"]).s)
+            noz = _flow.IsentropicNozzle.from_equilibrium(f, st["P"], st["h"], s0, isentropes=tables)
         else:
+            known = self._throat_known_single(up)
+            two = self._throat_known_two_phase(up)
             noz = _flow.IsentropicNozzle(self.fluid, up["T"], up["v_eos"], kernel=up["kernel"],
-                                         check_phase=not self._throat_known_single(up),
-                                         hint=getattr(self, "_throat_hint", None))
-            if not self._throat_known_single(up):
+                                         check_phase=not known, isentropes=tables, equilibrium=two)
+            if not (known or two):
                 self._last_throat = (noz.T_star, math.log(noz.P_star), np.array(up["x"]), noz.two_phase,
                                      up["T"], math.log(up["P"]))
-        # the next step's two-phase throat search starts near this one
-        self._throat_hint = math.log(noz.P_star / noz.P0) if noz.two_phase else None
         if key is not None:
             noz.tabulate()
             self._nozzle_cache["noz"] = (key, noz)
         return noz
+
+    def _isentropes(self, x):
+        """The equilibrium isentrope tables of composition x (one set per run and composition,
+        shared by every nozzle of the run: built once, interpolated at each right-hand side)."""
+        x = np.asarray(x, dtype=float)
+        key = x.tobytes()
+        tab = self._isentrope_tables.get(key)
+        if tab is None:
+            f = self.fluid if np.array_equal(x, self.fluid.mole_fractions) else self.fluid.with_composition(x)
+            tab = self._isentrope_tables[key] = _flow.EquilibriumIsentropes(f)
+        return tab
+
+    def _throat_known_two_phase(self, up):
+        """Go straight to the equilibrium throat while the upstream state stays within 0.5 K
+        and 0.01 in ln P of one whose throat was two-phase (common practice, no source; the
+        two paths give the same G* where the throat meets the phase boundary)."""
+        c = getattr(self, "_last_throat", None)
+        if c is None or not c[3]:
+            return False
+        return (abs(c[4] - up["T"]) < 0.5 and abs(c[5] - math.log(up["P"])) < 0.01
+                and np.max(np.abs(c[2] - up["x"])) < 1e-6)
 
     def _throat_known_single(self, up):
         """Skip the throat's phase test while the upstream state stays within 0.5 K and
@@ -472,6 +501,7 @@ class _Model:
         N = y[:nc]
         U = y[self.iU]
         g = self.content.state(N, U)
+        self.status = worst_status(self.status, g.get("status"))
         T, P, h = g["T"], g["P"], g["h"]
         M_x = float(g["x"] @ self.fluid.molar_masses)
         ndot_in = ndot_out = 0.0
@@ -507,8 +537,9 @@ class _Model:
         if self.wall is not None:
             w = self.wall
             Tw = y[self.iw:self.iw + self.nw]
+            cp_mass, beta = _cp_and_expansion(self.fluid, g, M_x)
             hin = self.inner_h(flowing, mdot=mdot_in + mdot_out, T_gas=T, T_wall=float(Tw[0]),
-                               rho=M_x / g["v"], cp_mass=1000.0)
+                               rho=M_x / g["v"], cp_mass=cp_mass, beta=beta)
             Q_wall = surface_exchange(hin, w.inner_area, float(Tw[0]), T, w.inner_resistance())
             Q_amb = surface_exchange(self.outer_h, w.outer_area, self.T_amb, float(Tw[-1]), w.outer_resistance())
             net = w.conduction(Tw)
@@ -544,11 +575,15 @@ class _Model:
         du = (dU − u dn)/n, dv = −v dn/n, dT = (du − (T P_T − P) dv)/cv,
         dP = P_T dT + P_v dv; dn = sign·ṅ, dU = sign·ṅ h_flow + Q.  The change
         of composition by the inflow is neglected in dP (exact for one
-        composition)."""
+        composition).
+
+        v is the content's molar volume V/n (what the amount changes); with a
+        volume shift c the model's own volume is v_eos = v + c, so
+        dv_eos = dv and the derivatives P_T, P_v at v_eos apply unchanged."""
         pr = g["pr"]
         if pr is None:
             raise EosfillError("a pressure ramp needs single-phase content")
-        T, P, n, u, v = g["T"], g["P"], g["n"], g["u"], g["v_eos"]
+        T, P, n, u, v = g["T"], g["P"], g["n"], g["u"], g["v"]
         PT, Pv, cv = pr["dPdT"], pr["dPdv"], pr["cv"]
 
         def dP(ndot, Qh):
@@ -728,6 +763,10 @@ def simulate(fluid, volume, *, mode="fill", initial_temperature, initial_pressur
     atol[:fluid.nc] = rtol * n_scale * 1e-3
     atol[model.iU] = rtol * n_scale * R * 300.0 * 1e-3
     atol[model.iw:model.ib] = rtol * 1e-2
+    if wall is not None:
+        # a wall node's energy error C ΔT must stay below the gas energy's tolerance too
+        # (a heavy wall otherwise breaks the (T3) energy closure)
+        atol[model.iw:model.ib] = np.minimum(atol[model.iw:model.ib], atol[model.iU] / wall.heat_capacity)
     for j, c in enumerate(model.bank_contents):
         nb = y0[model.ib + 2 * j]
         atol[model.ib + 2 * j] = rtol * nb * 1e-3
@@ -743,7 +782,26 @@ def simulate(fluid, volume, *, mode="fill", initial_temperature, initial_pressur
     res = run.result(output_times, n_output, limits or {}, description or [])
     if not run.complete:
         raise IntegrationError(run.failure, run.t_end, run.last_state(), res)
+    _refuse_unclosed(res, rtol)
     return res
+
+
+def _refuse_unclosed(res, rtol):
+    """A run whose (T3) closure, checked against the recomputed states, misses
+    max(1e-6, 10 rtol) is refused with ConvergenceError and the figures (the tolerance
+    is ours: a run closes to ~1e-12 when consistent; common practice, no source)."""
+    tol = max(1e-6, 10.0 * rtol)
+    res.closure_tolerance = tol
+    worst = max(res.mass_closure, res.energy_closure, res.state_residual)
+    if not worst <= tol:
+        raise ConvergenceError(
+            "time-resolved balance check",
+            f"the run does not close against an independent recomputation of its states: mass "
+            f"{res.mass_closure:.3e}, energy {res.energy_closure:.3e}, two-phase pressure "
+            f"{res.state_residual:.3e} (relative; tolerance {tol:g}); the result is refused",
+            dict(t_end=float(res.t[-1]), P=float(res.P[-1]), T=float(res.T_gas[-1]),
+                 mass_closure=res.mass_closure, energy_closure=res.energy_closure,
+                 state_residual=res.state_residual), worst)
 
 
 class _Run:
@@ -907,7 +965,7 @@ class _Run:
         P = np.array([r["P"] for r in rows])
         mass = ys[:, :m.nc] @ Mw
         beta = np.array([r["gas"]["beta"] for r in rows])
-        phase = np.array([r["gas"].get("phase", _phase_label(m.fluid, r)) for r in rows], dtype=object)
+        phase = np.array([_phase_label(m.fluid, r) for r in rows], dtype=object)
         res = TransientResult(
             kind=m.mode, t=times, P=P, T_gas=T,
             T_wall_inner=np.array([r["Tw_in"] for r in rows]), T_wall_outer=np.array([r["Tw_out"] for r in rows]),
@@ -919,47 +977,88 @@ class _Run:
         a = m.ia
         res.mass_in, res.mass_out = float(ys[-1, a]), float(ys[-1, a + 1])
         res.heat_from_ambient = float(ys[-1, a + 5])
-        res.mass_closure, res.energy_closure = _closure(m, ys, rows, self.y0)
+        res.mass_closure, res.energy_closure, res.state_residual, st_closure = _closure(m, ys, rows, self.y0)
+        res.status = worst_status(m.status, st_closure, *(t.status for t in m._isentrope_tables.values()))
         res.flags = _flags(res, limits)
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res
 
 
-def _phase_label(fluid, row):
-    g = row["gas"]
+def _cp_and_expansion(fluid, g, M):
+    """The content's isobaric heat capacity [J/(kg K)] and thermal expansion β [1/K]
+    from the equation of state, for the inner heat-transfer coefficient:
+    c_p = c_v − T (∂P/∂T)_v² / (∂P/∂v)_T and β (H4 of :mod:`eosfill.transient.heat`).
+    Two-phase content has no finite c_p (a pure fluid boils at constant T, P):
+    the ideal-gas c_p° of the mixture and β = 1/T are passed then (stated in
+    docs/transient.md)."""
+    T = g["T"]
     pr = g["pr"]
-    if pr is None:
-        return "gas"
-    Tpc, Ppc = float(g["x"] @ fluid.Tc), float(g["x"] @ fluid.Pc)
-    if row["T"] >= Tpc and row["P"] >= Ppc:
-        return "supercritical"
-    return "gas" if g["v_eos"] > 4.0 * g["kernel"].b else "liquid"
+    if pr is not None:
+        cp = pr["cv"] - T * pr["dPdT"] ** 2 / pr["dPdv"]
+        return float(cp) / M, float(isobaric_expansion(g["v"], pr["dPdT"], pr["dPdv"]))
+    from eosfill.model import idealgas
+
+    cp0 = idealgas.mixture_cp0(T, g["x"], fluid.cp_coeffs, fluid.cp_Tmin, fluid.cp_Tmax)
+    return float(cp0) / M, 1.0 / T
+
+
+def _phase_label(fluid, row):
+    """The content's phase label, from the State's own labelling (one rule for the
+    whole package, :mod:`eosfill.model.mixture`): a two-phase row carries the
+    equilibrium solver's label; a single-phase row is labelled by the State of
+    the same root at its (T, P) (the cubic root whose volume is the content's)."""
+    g = row["gas"]
+    if "phase" in g:
+        return str(g["phase"])
+    x = np.asarray(g["x"])
+    f = fluid if np.array_equal(x, fluid.mole_fractions) else fluid.with_composition(x)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        st = f.single_phase(row["T"], row["P"])
+        if abs(float(st.v) / g["v"] - 1.0) > 1e-6:   # not the stable root: the other one
+            st = f.single_phase(row["T"], row["P"], which="liquid" if g["v"] < float(st.v) else "vapour")
+    return str(st.phase)
+
+
+def _recomputed_row(fluid, V, row):
+    """(n, U, P residual) of an output row's content recomputed by a separate evaluation
+    from its reported T, P and composition: the (T, P) state of the content's root for one
+    phase (n = V/v), the (T, v) equilibrium state when two-phase (its P compared with the
+    reported one)."""
+    g = row["gas"]
+    x = np.asarray(g["x"])
+    f = g.get("fluid_x") or (fluid if np.array_equal(x, fluid.mole_fractions) else fluid.with_composition(x))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        if g["pr"] is None:
+            st = f.state(T=row["T"], v=g["v"])
+            return (g["n"], g["n"] * float(st.u), (float(st.P) - row["P"]) / row["P"],
+                    worst_status(getattr(st, "status", CONVERGED)))
+        st = f.single_phase(row["T"], row["P"])
+        if abs(float(st.v) / g["v"] - 1.0) > 1e-6:   # the content is on the other root
+            st = f.single_phase(row["T"], row["P"], which="liquid" if g["v"] < float(st.v) else "vapour")
+    n = V / float(st.v)
+    return n, n * float(st.u), 0.0, worst_status(getattr(st, "status", CONVERGED))
 
 
 def _closure(m, ys, rows, y0):
-    """(T3) relative mass and energy closure, the largest over the output times.
+    """(T3) relative mass and energy closure, the largest over the output times, and the
+    largest two-phase pressure residual.
 
-    E_gas is recomputed from the reported T and v by the equation of state
-    (the kernel for single-phase rows, the equilibrium solver otherwise), not
-    taken from the integrated U."""
+    The content's amount and energy are recomputed from each row's reported T, P and
+    composition by a separate evaluation (:func:`_recomputed_row`), not taken from the
+    integrated N and U."""
     Mw = m.fluid.molar_masses
     a = m.ia
     m0 = float(y0[:m.nc] @ Mw)
-    mass = ys[:, :m.nc] @ Mw
+    recomputed = [_recomputed_row(m.fluid, m.V, r) for r in rows]
+    Mx = np.array([float(np.asarray(r["gas"]["x"]) @ Mw) for r in rows])
+    mass = np.array([q[0] for q in recomputed]) * Mx
     m_in, m_out = ys[:, a], ys[:, a + 1]
     mass_scale = np.maximum.reduce([np.full(mass.size, m0), mass, m_in, m_out])
     mass_cl = float(np.max(np.abs(mass - m0 - m_in + m_out) / mass_scale))
-    E = np.empty(len(rows))
-    for i, r in enumerate(rows):
-        g = r["gas"]
-        n = g["n"]
-        if g["pr"] is not None:
-            u = float(g["kernel"](r["T"], g["v_eos"])["u"])
-        else:
-            f = g.get("fluid_x") or m.fluid
-            u = float(f.state(T=r["T"], v=g["v"]).u)
-        E[i] = n * u
+    E = np.array([q[1] for q in recomputed])
+    p_res = float(np.max(np.abs([q[2] for q in recomputed])))
+    status = worst_status(*(q[3] for q in recomputed))
     Ew = np.zeros(len(rows))
     Ew0 = 0.0
     if m.wall is not None:
@@ -979,8 +1078,11 @@ def _closure(m, ys, rows, y0):
     else:
         lhs = E + Ew - E0 - Ew0 - H_in + H_out - Q_amb
     n_max = float(np.max(ys[:, :m.nc].sum(axis=1)))
-    scale = np.abs(H_in) + np.abs(H_out) + np.abs(Q_amb) + np.abs(ys[:, a + 4]) + n_max * R * 300.0
-    return mass_cl, float(np.max(np.abs(lhs) / scale))
+    # the energies involved, and 1e-9 of the wall's stored energy C T_w: float64 round-off
+    # of a very heavy wall's energy (the isothermal limit) would otherwise set the closure
+    scale = (np.abs(H_in) + np.abs(H_out) + np.abs(Q_amb) + np.abs(ys[:, a + 4]) + n_max * R * 300.0
+             + 1e-9 * np.abs(Ew))
+    return mass_cl, float(np.max(np.abs(lhs) / scale)), p_res, status
 
 
 def _flags(res, limits):

@@ -49,13 +49,15 @@ local codes, the vessel's approval documents and licensed practice govern.
 """
 from __future__ import annotations
 
+import contextvars
+import functools
 import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from eosfill.constants import R
-from eosfill.errors import ConvergenceError, InputError
+from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, InputError, worst_status
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models (adiabatic or "
            "lumped-wall balances); local codes, the vessel's approval documents and licensed "
@@ -197,11 +199,58 @@ def common_fluid(*fluids):
     return fl, zs
 
 
+# the worst solver status of the states a result is built on (codes of eosfill.errors):
+# every state the balances use goes through _state, which records it here while a
+# result is being computed (see _StatusRecord)
+_STATUS = contextvars.ContextVar("eosfill_vessel_status", default=None)
+
+
+class _StatusRecord:
+    """Context: collects the worst status of the states solved inside it (nested records
+    pass theirs on to the enclosing one)."""
+
+    def __enter__(self):
+        self.worst = [CONVERGED]
+        self._token = _STATUS.set(self.worst)
+        return self
+
+    def __exit__(self, *exc):
+        _STATUS.reset(self._token)
+        _note_status(self.worst[0])
+        return False
+
+    @property
+    def status(self):
+        return int(self.worst[0])
+
+
+def _note_status(code):
+    rec = _STATUS.get()
+    if rec is not None:
+        rec[0] = worst_status(rec[0], code)
+
+
+def _with_status(func):
+    """Decorator of the vessel-layer entry points: the Result returned carries the worst
+    solver status of every state solved while it was built (``Result.status``)."""
+    @functools.wraps(func)
+    def run(*args, **kwargs):
+        with _StatusRecord() as rec:
+            res = func(*args, **kwargs)
+        res.status = worst_status(res.status, rec.status)
+        return res
+
+    return run
+
+
 def _state(fluid, z, **spec):
-    """State of composition z (silences the 0/0 of absent components)."""
+    """State of composition z (silences the 0/0 of absent components); its solver status
+    (``getattr(state, "status", CONVERGED)``) is recorded for the result being built."""
     f = fluid.with_composition(z) if z is not None else fluid
     with np.errstate(invalid="ignore", divide="ignore"):
-        return f.state(**spec)
+        st = f.state(**spec)
+    _note_status(getattr(st, "status", CONVERGED))
+    return st
 
 
 def _comp_dict(fluid, z):
@@ -273,9 +322,16 @@ class _Content:
 
         # gas alone at the target energy, T1; the answer lies between T1 and T_w0
         try:
-            T1 = _state(self.fluid, z, u=(E - 0.0) / n, v=v).T
+            T1 = _f(_state(self.fluid, z, u=(E - 0.0) / n, v=v).T)
         except InputError:
+            # the gas alone would pass the inverse solver's range: bracket by g itself
+            # (g rises with T: n c_v + C_w > 0), stepping from T_w0 outwards
             T1 = Tw0
+            step = 2.0 if g(Tw0) < 0 else 0.5
+            for _ in range(12):
+                T1 *= step
+                if (g(T1) >= 0) == (step > 1):
+                    break
         lo, hi = sorted((T1, Tw0))
         if hi - lo < 1e-12 * hi:
             T = 0.5 * (lo + hi)
@@ -290,6 +346,64 @@ class _Content:
 
 def _energy_scale(n, T):
     return max(n, 1e-300) * R * T
+
+
+# --------------------------------------------------------------------------
+# closure verified against an independent recomputation
+# --------------------------------------------------------------------------
+# A result closes to ~1e-10 when its states are right; 1e-6 leaves room for the
+# solvers' tolerances and refuses anything visibly wrong (our choice, common
+# practice, no source).
+CLOSURE_TOLERANCE = 1e-6
+
+
+def _z_of(fluid, composition):
+    """Mole-fraction vector (in the fluid's order) of a reported {name: x} composition."""
+    return np.array([composition.get(n, 0.0) for n in fluid.names], dtype=float)
+
+
+def _recomputed_content(fluid, es: "EndState", V):
+    """(n, U, P residual) of a reported content in a volume V, recomputed by a separate
+    evaluation from its reported T, P and composition: the (T, P) state for one phase
+    (n = V/v), the (T, v = V/n) equilibrium state when two-phase (where T and P do not
+    fix v; the pressure of that state is compared with the reported one instead)."""
+    z = _z_of(fluid, es.composition)
+    if es.phase == "two-phase":
+        st = _state(fluid, z, T=es.T, v=V / es.n)
+        return es.n, es.n * _f(st.u), (_f(st.P) - es.P) / es.P
+    st = _state(fluid, z, T=es.T, P=es.P)
+    n = V / _f(st.v)
+    return n, n * _f(st.u), 0.0
+
+
+def _refuse_unclosed(kind, energy_closure, mass_closure, state_residual, figures, tol=CLOSURE_TOLERANCE):
+    """Raise ConvergenceError (with the figures) when a result misses its closure tolerance."""
+    worst = max(abs(energy_closure), abs(mass_closure), abs(state_residual))
+    if not worst <= tol:   # also refuses NaN
+        raise ConvergenceError(
+            f"{kind} balance check",
+            f"the result does not close against an independent recomputation of its states: energy "
+            f"{energy_closure:.3e}, mass {mass_closure:.3e}, end-state pressure {state_residual:.3e} "
+            f"(relative; tolerance {tol:g}); the result is refused",
+            dict(figures, energy_closure=float(energy_closure), mass_closure=float(mass_closure),
+                 state_residual=float(state_residual)), worst)
+
+
+def _fill_closure(fluid, V, final, initial, supply_T, supply_P, z_in, N, Cw, Tw0, Q):
+    """(V1), (V2) of a fill from the reported end and initial states and the supply state,
+    each recomputed by its own evaluation (not the solved states): relative energy and
+    mass closures and the end state's pressure residual."""
+    n_f, U_f, p_res = _recomputed_content(fluid, final, V)
+    if initial is not None:
+        n_0, U_0, p0 = _recomputed_content(fluid, initial, V)
+        m_0 = n_0 * _molar_mass(fluid, _z_of(fluid, initial.composition))
+    else:
+        n_0 = U_0 = m_0 = p0 = 0.0
+    h_in = _f(_state(fluid, z_in, T=supply_T, P=supply_P).h)
+    M_f = _molar_mass(fluid, _z_of(fluid, final.composition))
+    e = (U_f - U_0 + Cw * (final.T - (Tw0 or 0.0)) - N * h_in - Q) / _energy_scale(final.n, final.T)
+    m = (n_f * M_f - m_0 - N * _molar_mass(fluid, z_in)) / (n_f * M_f)
+    return float(e), float(m), float(max(abs(p_res), abs(p0)))
 
 
 # --------------------------------------------------------------------------
@@ -396,6 +510,8 @@ class Result:
     energy_closure: float
     mass_closure: float
     settled: Settled | None = None
+    closure_tolerance: float = CLOSURE_TOLERANCE
+    status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
     supply: dict | None = None
     stages: list = field(default_factory=list)
     comparison: dict | None = None
@@ -460,6 +576,8 @@ class Result:
                        f"bank ends at {_qty(c['bank_P'], 'pressure')}")
         out.append(f"energy closure {self.energy_closure:.3e} (relative to n R T), mass closure "
                    f"{self.mass_closure:.3e} (relative)")
+        if self.status != CONVERGED:
+            out.append(f"WARNING: built on a state whose solver reported: {STATUS_TEXT.get(self.status, self.status)}")
         for n in self.notes:
             out.append(f"note: {n}")
         for fl in self.flags:
@@ -574,6 +692,7 @@ def _expand_up(func, lo, guess, cap, what):
 # --------------------------------------------------------------------------
 # fill from a supply at constant state
 # --------------------------------------------------------------------------
+@_with_status
 def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop="target_pressure",
          target=None, temperature_limit=None, heat=0.0, settled_temperature=None,
          nominal_pressure=None, nominal_temperature=T_NOMINAL, state_of_charge=False,
@@ -744,12 +863,13 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
     Tw = _f(st_f.T) if vessel.wall_heat_capacity > 0 else None
     final = EndState.of(fluid, st_f, n_end, V, wall=Tw)
     initial_es = EndState.of(fluid, st0, n0, V, wall=c.Tw0 if vessel.wall_heat_capacity > 0 else None) if st0 is not None else None
-    # closures (V1), (V2) from the solved state
+    # closures (V1), (V2): the reported end and initial states and the supply recomputed
+    # independently (not the solved states); a result that does not close is refused
     N = n_end - n0
-    lhs = n_end * _f(st_f.u) - U0 + c.Cw * (_f(st_f.T) - (c.Tw0 or 0.0))
-    rhs = N * h_in + c.Q
-    e_cl = (lhs - rhs) / _energy_scale(n_end, _f(st_f.T))
-    m_cl = (final.mass - (m0 + N * M_in)) / final.mass
+    e_cl, m_cl, p_res = _fill_closure(fluid, V, final, initial_es, supply.T, supply.P, z_in, N, c.Cw, c.Tw0,
+                                      c.Q)
+    _refuse_unclosed("fill", e_cl, m_cl, p_res, dict(T=final.T, P=final.P, n=final.n, supply_T=supply.T,
+                                                      supply_P=supply.P))
     settled = _settle(fluid, z_f, n_end, V, T_settle, nominal_pressure, nominal_temperature, state_of_charge)
     lim = dict(limits or {})
     lim["_volume"] = V
@@ -817,6 +937,7 @@ def _liquid_density_at(fluid, z, T):
                 if T >= fluid.Tc[i]:
                     return None
                 sat = equilibrium.saturation_pressure(np.array([T]), _pure_params(fluid, i))
+                _note_status(sat.get("status"))
                 vL = float(np.asarray(sat["v_L"]).ravel()[0]) - float(fluid.volume_shift[i])
                 return float(fluid.molar_masses[i]) / vL
             _, Pb, _ = equilibrium.bubble_point(np.asarray(z), f.params, T=T)

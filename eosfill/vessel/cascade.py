@@ -12,7 +12,7 @@ import numpy as np
 
 from eosfill.errors import InputError
 from eosfill.vessel.vent import _gauss_legendre
-from eosfill.vessel.balances import FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict, _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg, _overfill_flag, _positive, _scan_first, _settle, _state, common_fluid
+from eosfill.vessel.balances import FILL_STOPS, T_NOMINAL, EndState, Result, Stream, Vessel, _brentq, _comp_dict, _Content, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _nonneg, _overfill_flag, _positive, _recomputed_content, _refuse_unclosed, _scan_first, _settle, _state, _with_status, _z_of, common_fluid
 
 @dataclass
 class Bank:
@@ -47,6 +47,7 @@ class _BankDraw:
         return float(np.sum(w * np.asarray(st.h)))
 
 
+@_with_status
 def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch_pressure_difference=0.0,
                  stop="target_pressure", target=None, temperature_limit=None, heat=0.0,
                  settled_temperature=None, nominal_pressure=None, nominal_temperature=T_NOMINAL,
@@ -188,6 +189,8 @@ def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch
     e_cl = (lhs - U0 - U_banks0 - c.Q) / _energy_scale(n_sys, _f(final_st.T))
     e_vessel = (final_n * _f(final_st.u) + c.Cw * (_f(final_st.T) - (c.Tw0 or 0.0)) - U0 - H_tot - c.Q)
     m_cl = (final.mass - m_v) / final.mass
+    e_cl, m_cl, p_res = _cascade_closure(fluid, V, final, st0, n0, z0, c, draws, banks, stages, bank_end, H_tot)
+    _refuse_unclosed("cascade fill", e_cl, m_cl, p_res, dict(T=final.T, P=final.P, n=final.n))
     settled = _settle(fluid, final_z, final_n, V, T_settle, nominal_pressure, nominal_temperature, state_of_charge)
     lim = dict(limits or {})
     lim["_volume"] = V
@@ -209,3 +212,40 @@ def cascade_fill(vessel: Vessel, banks, initial: Stream | None = None, *, switch
                               f"bank's state", T=alt.final.T, P=alt.final.P, mass=alt.final.mass, stop=alt.stop,
                               bank_P=alt.stages[-1]["bank_P"], bank_mass_drawn=alt.stages[-1]["mass_drawn"])
     return res
+
+
+def _cascade_closure(fluid, V, final, st0, n0, z0, c, draws, banks, stages, bank_end, H_tot):
+    """(V1), (V6) over the vessel and its banks from the reported states, each recomputed
+    by its own evaluation (vessel end and start from T, P and composition; each bank's end
+    from its reported T, P; each bank's start from its given T, P): relative energy and
+    mass closures of the whole system and the largest two-phase pressure residual."""
+    nf, Uf, p_res = _recomputed_content(fluid, final, V)
+    Mf = _molar_mass(fluid, _z_of(fluid, final.composition))
+    if st0 is not None:
+        ini = EndState.of(fluid, st0, n0, V)
+        n0r, U0r, p0 = _recomputed_content(fluid, ini, V)
+        p_res = max(abs(p_res), abs(p0))
+        m0r = n0r * _molar_mass(fluid, z0)
+    else:
+        U0r = m0r = 0.0
+    U_b0 = U_b = m_b0 = m_b = 0.0
+    for k, (d, bank) in enumerate(zip(draws, banks)):
+        Mk = _molar_mass(fluid, d.z)
+        st_b0 = _state(fluid, d.z, T=bank.gas.T, P=bank.gas.P)
+        nb0 = bank.volume / _f(st_b0.v)
+        U_b0 += nb0 * _f(st_b0.u)
+        m_b0 += nb0 * Mk
+        if k < len(stages):
+            es = EndState(T=stages[k]["bank_T"], P=stages[k]["bank_P"], n=nb0 - stages[k]["moles_drawn"],
+                          mass=0.0, composition=stages[k]["bank_composition"], phase=str(bank_end[k].phase),
+                          vapor_fraction=_f(bank_end[k].vapor_fraction))
+            nb, Ub, pb = _recomputed_content(fluid, es, bank.volume)
+            p_res = max(abs(p_res), abs(pb))
+        else:
+            nb, Ub = nb0, nb0 * _f(st_b0.u)
+        U_b += Ub
+        m_b += nb * Mk
+    n_sys = final.n + sum(d.n0 for d in draws) - (final.n - n0)
+    e = (Uf + c.Cw * (final.T - (c.Tw0 or 0.0)) + U_b - U0r - U_b0 - c.Q) / _energy_scale(n_sys, final.T)
+    m = (nf * Mf + m_b - m0r - m_b0) / (m0r + m_b0)
+    return float(e), float(m), float(p_res)

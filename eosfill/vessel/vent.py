@@ -12,7 +12,7 @@ import math
 import numpy as np
 
 from eosfill.errors import ConvergenceError, InputError
-from eosfill.vessel.balances import VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _positive, _state, common_fluid
+from eosfill.vessel.balances import VENT_STOPS, EndState, Result, Stream, Vessel, _brentq, _energy_scale, _f, _initial_content, _limit_flags, _molar_mass, _positive, _recomputed_content, _refuse_unclosed, _state, _with_status, common_fluid
 
 def _gauss_legendre(a, b, m=24, panels=4):
     x, w = np.polynomial.legendre.leggauss(m)
@@ -55,6 +55,7 @@ def _isentrope_enthalpy_integral(fluid, z, s0, V, n_a, n_b):
     return total
 
 
+@_with_status
 def vent(vessel: Vessel, initial: Stream, *, stop="target_pressure", target=None, temperature_limit=None,
          limits=None):
     """End state of an adiabatic vent of a rigid vessel.
@@ -112,9 +113,14 @@ def vent(vessel: Vessel, initial: Stream, *, stop="target_pressure", target=None
     if reached == "temperature_limit":
         notes.append(f"the temperature limit ended the vent before {stop} was reached")
     final = EndState.of(fluid, st_f, n_f, V, wall=_f(st_f.T) if Cw > 0 else None)
-    e_cl = (n_f * _f(st_f.u) + Cw * _f(st_f.T) - U0 - Cw * T0 + E_out) / _energy_scale(n_f, _f(st_f.T))
-    # homogeneous outflow: the composition stays z, so mass closes by (V1) with z_out = z
-    m_cl = (final.mass - n_f * M) / final.mass
+    initial_es = EndState.of(fluid, st0, n0, V, wall=T0 if Cw > 0 else None)
+    # closures (V4)/(V5) and (V1): the reported end and initial states recomputed by their
+    # own evaluations (not the solved states); homogeneous outflow: the composition stays z
+    nf_r, Uf_r, p_res = _recomputed_content(fluid, final, V)
+    n0_r, U0_r, p0_res = _recomputed_content(fluid, initial_es, V)
+    e_cl = (Uf_r + Cw * final.T - U0_r - Cw * T0 + E_out) / _energy_scale(n_f, final.T)
+    m_cl = (nf_r * M - (n0_r * M - (n0 - n_f) * M)) / (nf_r * M)
+    _refuse_unclosed("vent", e_cl, m_cl, max(abs(p_res), abs(p0_res)), dict(T=final.T, P=final.P, n=n_f))
     # liquid formation along the path (dew point crossed)
     phases = [(p["n"], p["phase"], p["P"]) for p in path]
     liquid = [p for p in phases if p[1] in ("two-phase", "liquid")]
@@ -127,7 +133,6 @@ def vent(vessel: Vessel, initial: Stream, *, stop="target_pressure", target=None
     lim = dict(limits or {})
     lim["_volume"] = V
     _limit_flags(final, lim, flags, lowest_T=lowest)
-    initial_es = EndState.of(fluid, st0, n0, V, wall=T0 if Cw > 0 else None)
     return Result(kind="vent", volume=V, stop=reached, stop_requested=stop, stop_met=met, initial=initial_es,
                   final=final, energy_closure=float(e_cl), mass_closure=float(m_cl), vent=vent_info,
                   curve=[dict(mass=p["n"] * M, T=p["T"], P=p["P"]) for p in path],
