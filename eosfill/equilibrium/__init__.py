@@ -1,6 +1,7 @@
 """Phase equilibrium on the model layer: Wilson K, Rachford-Rice, pure-fluid
 saturation, tangent-plane stability, the TP flash, bubble and dew points,
-phase envelopes (see :mod:`eosfill.equilibrium.solvers`).
+phase envelopes (see :mod:`eosfill.equilibrium.solvers`); solid boundaries and the
+solid-formation screening (:mod:`eosfill.equilibrium.solid`).
 """
 from eosfill.equilibrium.solvers import (  # noqa: F401
     bubble_point,
@@ -14,3 +15,4 @@ from eosfill.equilibrium.solvers import (  # noqa: F401
     stability_test,
     wilson_lnK,
 )
+from eosfill.equilibrium import solid  # noqa: F401,E402  (registers State.solid_risk)

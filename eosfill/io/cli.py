@@ -103,7 +103,10 @@ def _state_table(fluid, st):
     from eosfill.io.units import format_number as fn
 
     M = st.molar_mass
+    risk = st.solid_risk  # solid region / freeze-out screening (eosfill.equilibrium.solid)
     rows = [
+        _row("phase", "solid region", "", f"{risk.label.partition(' (')[2].rstrip(')')}; the cubic alone says "
+             f"{st.phase}") if risk else
         _row("phase", st.phase, "", st.root_choice if st.phase != "two-phase" else ""),
         _row("temperature", fn(st.T - 273.15), "°C", f"{fn(st.T)} K"),
         _row("pressure", fn(st.P / 1e5), "bar", f"{fn(st.P)} Pa"),
@@ -168,6 +171,8 @@ def cmd_state(args):
                          f"(got {', '.join('--' + k for k in spec) or 'none'})")
     st = fluid.state(**spec)
     print(_state_table(fluid, st))
+    for message in st.solid_risk.messages:
+        print(f"WARNING: {message}")
     print(REFERENCE)
     print(CAUTION)
     return EXIT_OK
@@ -188,6 +193,8 @@ def cmd_explain(args):
     T = parse_quantity(args.T, "temperature", "--T")
     P = parse_quantity(args.P, "pressure", "--P", ambient_pressure=amb)
     print(format_trace(trace_state(fluid, T, P)))
+    for message in fluid.state(T=T, P=P).solid_risk.messages:  # solid region screening
+        print(f"WARNING: {message}")
     return EXIT_OK
 
 

@@ -452,7 +452,8 @@ def _state_rows(fmt, states, V):
             ["mass"] + [fmt.q(s.mass, "mass") for _, s in states],
             ["amount"] + [f"{fmt.n(s.n)} mol" for _, s in states],
             ["density (mass / vessel volume)"] + [f"{fmt.n(s.mass / V)} kg/m³" for _, s in states],
-            ["phase"] + [s.phase for _, s in states]]
+            ["phase"] + [f"SOLID REGION (the cubic alone: {s.phase})" if getattr(s, "solid", None) else s.phase
+                         for _, s in states]]
     if any(s.wall_temperature is not None for _, s in states):
         rows.append(["wall temperature"] + [fmt.T(s.wall_temperature) for _, s in states])
     if any(len(s.composition) > 1 for _, s in states):

@@ -512,6 +512,17 @@ class State:
         """Fugacity of each component x_i φ_i P [Pa], shape (..., nc)."""
         return np.asarray(self._x) * np.exp(self._lnphi) * np.asarray(self._P)[..., None]
 
+    # solid-formation screening; set by eosfill.equilibrium.solid (the layer above) on import
+    _solid_screen = None
+
+    @cached_property
+    def solid_risk(self):
+        """Where a solid may form (triple point, melting and sublimation curves; freeze-out of
+        mixture components): ``.flag`` per row, ``.messages``, ``.label``.  Computed on first use."""
+        if State._solid_screen is None:
+            raise EosfillError("solid_risk needs eosfill.equilibrium.solid (import eosfill.equilibrium)")
+        return State._solid_screen(self)
+
     def __repr__(self):
         if np.ndim(self._T) == 0:
             return (f"State(T={self.T:.6g} K, P={self.P:.6g} Pa, v={self.v:.6g} m3/mol, "

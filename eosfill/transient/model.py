@@ -48,6 +48,7 @@ import numpy as np
 
 from eosfill.transient import flow as _flow
 from eosfill.constants import R
+from eosfill.equilibrium.solid import path_solid_risk
 from eosfill.errors import CONVERGED, STATUS_TEXT, ConvergenceError, EosfillError, InputError, LimitWarning, worst_status
 from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall, isobaric_expansion, surface_exchange
 
@@ -166,6 +167,7 @@ class TransientResult:
     description: list = field(default_factory=list)
     n_rhs: int = 0
     status: int = CONVERGED   # worst solver status of the states used (eosfill.errors codes)
+    solid: np.ndarray = None  # per row: True where the content may hold a solid (eosfill.equilibrium.solid)
 
     # peaks
     def peak(self, name, which="max"):
@@ -232,7 +234,7 @@ class TransientResult:
         import pandas as pd
 
         cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                "Q_wall", "phase", "vapour_fraction", "bank")
+                "Q_wall", "phase", "vapour_fraction", "bank", "solid")
         return pd.DataFrame({c: getattr(self, c) for c in cols})
 
     def write(self, json_path=None, csv_path=None):
@@ -242,7 +244,7 @@ class TransientResult:
                 json.dump(self.to_dict(), fh, indent=1, default=float)
         if csv_path is not None:
             cols = ("t", "P", "T_gas", "T_wall_inner", "T_wall_outer", "mass", "mdot_in", "mdot_out",
-                    "Q_wall", "vapour_fraction", "bank", "phase")
+                    "Q_wall", "vapour_fraction", "bank", "phase", "solid")
             with open(csv_path, "w") as fh:
                 fh.write(",".join(f"{c}" for c in cols) + "\n")
                 for i in range(self.t.size):
@@ -979,7 +981,11 @@ class _Run:
         res.heat_from_ambient = float(ys[-1, a + 5])
         res.mass_closure, res.energy_closure, res.state_residual, st_closure = _closure(m, ys, rows, self.y0)
         res.status = worst_status(m.status, st_closure, *(t.status for t in m._isentrope_tables.values()))
-        res.flags = _flags(res, limits)
+        risk = path_solid_risk(m.fluid, T, P, np.array([r["gas"]["x"] for r in rows]))
+        res.solid = np.asarray(risk.flag, dtype=bool)
+        res.flags = _flags(res, limits) + [f"solid region first seen at {times[i[0]]:.4g} s "
+                                           f"({int(res.solid.sum())} of {res.solid.size} output rows): {text}"
+                                           for i, text in risk.reasons[:1]]
         for f in res.flags:
             warnings.warn(f, LimitWarning, stacklevel=3)
         return res

@@ -432,6 +432,7 @@ class EndState:
     liquid_mass: float | None = None
     vapour_mass: float | None = None
     liquid_volume_fraction: float | None = None
+    solid: list = field(default_factory=list)  # solid region / freeze-out (eosfill.equilibrium.solid)
 
     @classmethod
     def of(cls, fluid, st, n, V, wall=None):
@@ -440,7 +441,8 @@ class EndState:
         beta = _f(st.vapor_fraction)
         out = cls(T=_f(st.T), P=_f(st.P), n=float(n), mass=float(n * M),
                   composition={k: float(x) for k, x in zip(fluid.names, z) if x > 0},
-                  phase=str(st.phase), vapor_fraction=beta, wall_temperature=wall)
+                  phase=str(st.phase), vapor_fraction=beta, wall_temperature=wall,
+                  solid=list(st.solid_risk.messages))
         if out.phase == "two-phase":
             L = st.liquid
             nL = (1.0 - beta) * n
@@ -456,6 +458,8 @@ class EndState:
     def lines(self, label, V=None):
         s = [f"{label}: {_qty(self.T, 'temperature')} ({self.T:.6g} K), {_qty(self.P, 'pressure')}, "
              f"{_qty(self.mass, 'mass')} ({self.n:.6g} mol), phase {self.phase}"]
+        if self.solid:
+            s.append("  SOLID REGION: " + "; ".join(self.solid))
         if self.wall_temperature is not None:
             s.append(f"  wall temperature {_qty(self.wall_temperature, 'temperature')}")
         if len(self.composition) > 1:
@@ -632,6 +636,7 @@ def _overfill_flag(settled, flags):
 
 
 def _limit_flags(final: EndState, limits, flags, lowest_T=None, highest_T=None):
+    flags.extend(m for m in final.solid if m not in flags)  # solid region, never silent
     if not limits:
         return
     from eosfill.io.units import format_quantity as fq
@@ -821,7 +826,7 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
              "is isenthalpic); the vessel is rigid and, apart from the heat given, adiabatic"]
     if vessel.wall_heat_capacity > 0:
         notes.append("the wall ends at the gas temperature (thermal equilibrium, lumped heat capacity)")
-    flags = []
+    flags = [f"supply: {m}" for m in st_in.solid_risk.messages]  # a solid in the supply line
 
     def solve_for(name):
         """n_f with the criterion met (V1)-(V3); brackets grow from the supply's density."""
