@@ -2,12 +2,13 @@
 
 Outside check: CoolProp 8.0's reference equation for nitrogen (Span et al.,
 J. Phys. Chem. Ref. Data 29 (2000) 1361-1433; citation from memory) on
-held-out states that the fit never saw.  The fitted PR (Twu α + constant c)
-must beat the generalised tc-PR of Le Guennec et al. (2016) on held-out
-densities and residual enthalpies and meet the figures measured when the
-script was written (nitrogen, 200-400 K, 0.1-100 MPa: density RMS 0.53 %,
-max 1.50 %; h^R RMS 22 J/mol), with margin.  Its α must satisfy the
-consistency conditions of Le Guennec et al. (FPE 427, 2016).
+held-out states that the fit never saw (those of benchmarks/accuracy_table.py).
+The fitted PR (Twu α + constant c) must beat the generalised tc-PR of Le
+Guennec et al. (2016) and plain PR on held-out densities and fill end
+temperatures and meet the figures measured when the script was written, with
+margin.  Its α must satisfy the consistency conditions of Le Guennec et al.
+(FPE 427, 2016).  The script's own measurement of the model equals the
+accuracy table's measurement through eosfill.Fluid (plain PR, nitrogen).
 """
 import importlib.util
 from pathlib import Path
@@ -30,15 +31,49 @@ def _load():
 @pytest.mark.reference
 @pytest.mark.slow
 def test_nitrogen_fit_beats_generalised_tc_pr_on_held_out_states():
+    """Fit nitrogen afresh; on the accuracy table's held-out states (CoolProp 8.0,
+    Span et al. 2000) it must beat tc-PR and plain PR and come close to the
+    issue's targets (figures measured when the script was written: density worst
+    -1.15 %, fill end T worst +1.03 K, vapour pressure worst
+    +0.89 %)."""
     fit = _load()
-    r = fit.fit_fluid("nitrogen", "Nitrogen", True)
-    f, g = r["fitted"], r["generalised"]
+    r = fit.fit_fluid("nitrogen")
+    f, g, p = r["fitted"], r["generalised"], r["plain"]
     assert r["consistent"]
-    assert f["rho_rms"] < 0.8 and f["rho_max"] < 2.0          # % vs the reference equation
-    assert f["h_rms"] < 35.0                                    # J/mol
-    assert f["psat_max"] < 1.0                                  # %
-    assert f["rho_rms"] < 0.5 * g["rho_rms"] and f["h_rms"] < 0.5 * g["h_rms"]
-    assert r["n_out"] > 100
+    assert abs(f["density"][0]) < 1.3 and f["density"][1] < 0.7          # % vs the reference equation
+    assert abs(f["fill_end_T"][0]) < 1.3                                   # K
+    assert abs(f["vapour_pressure"][0]) < 1.1                              # %
+    for q in ("density", "fill_end_T"):
+        assert abs(f[q][0]) < 0.3 * min(abs(g[q][0]), abs(p[q][0])), q
+    assert r["n_out"] >= 50
+
+
+@pytest.mark.reference
+def test_script_measures_plain_pr_as_the_accuracy_table_does():
+    """The script's held-out figures (its own pure-fluid model on eosfill's
+    equations) for plain PR equal those benchmarks/accuracy_table.py measures
+    through eosfill.Fluid(model="PR") on the same states (nitrogen: density,
+    fill end temperature, vapour pressure), to 1e-8."""
+    import warnings
+
+    import numpy as np
+
+    fit = _load()
+    acc = fit._accuracy_table()           # a private copy: its lists are narrowed below
+    acc.GASES = [g for g in acc.GASES if g[0] == "nitrogen"]
+    acc.SATURATION = [g for g in acc.SATURATION if g[0] == "nitrogen"]
+    setup = fit.SETUP["nitrogen"]
+    comp = fit.get_component("nitrogen")
+    devs = fit.deviations(fit.PureTwuPR.of("nitrogen"), comp.M, fit.held_out_reference(setup),
+                          fit.plain_pr_parameters("nitrogen"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        bench = {"density": acc.density_deviations("PR")["nitrogen"],
+                 "fill_end_T": acc.fill_end_T_deviations("PR")["nitrogen"],
+                 "vapour_pressure": acc.vapour_pressure_deviations("PR")["nitrogen"]}
+    for q, b in bench.items():
+        assert len(b) == devs[q].size and len(b) > 5, q
+        assert np.max(np.abs(np.asarray(b) - devs[q])) < 1e-8, q
 
 
 def test_convexity_condition_matches_the_kernel():
