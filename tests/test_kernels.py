@@ -147,6 +147,9 @@ def test_batches_run_the_one_state_code():
     lp, Z = kp.ln_phi_TP(m, T, P, g.mole_fractions)
     np.testing.assert_array_equal(Z, rows[:, kp.TP_Z])
     np.testing.assert_array_equal(lp[3], kp.ln_phi_TP(m, T[3:4], P[3:4], g.mole_fractions)[0][0])
+    lz = kp.ln_phi_at_Z(m, T, P, Z, g.mole_fractions)              # parallel
+    np.testing.assert_array_equal(lz[7], kp.ln_phi_at_Z(m, T[7:8], P[7:8], Z[7:8], g.mole_fractions)[0])
+    np.testing.assert_allclose(lz, lp, rtol=1e-13, atol=1e-13)      # same root, same (C10)
 
 
 def test_soave_kind_code_is_alpha_modules():

@@ -332,6 +332,16 @@ def ln_phi_TP_parallel(T, P, x, which, m, out, Z):
                          m, out[lo:hi], Z[lo:hi])
 
 
+@njit(parallel=True, nogil=True, **KERNEL)
+def ln_phi_Z_parallel(T, P, Z, x, m, out):
+    """:func:`ln_phi_Z_serial` over chunks of states in parallel."""
+    n = T.shape[0]
+    one_x = x.shape[0] == 1
+    for c in prange((n + _CHUNK - 1) // _CHUNK):
+        lo, hi = c * _CHUNK, min(n, (c + 1) * _CHUNK)
+        ln_phi_Z_serial(T[lo:hi], P[lo:hi], Z[lo:hi], x if one_x else x[lo:hi], m, out[lo:hi])
+
+
 # --------------------------------------------------------------------------
 # one-state entries (scratch allocated inside; for Python callers of one state)
 # --------------------------------------------------------------------------
@@ -439,5 +449,5 @@ def ln_phi_at_Z(m, T, P, Z, x):
     shape, Tf, Pf, xf, _ = _batch(T, P, x, nc)
     Zf = _f64(np.broadcast_to(np.asarray(Z, dtype=float), shape).reshape(-1))
     out = np.empty((Tf.shape[0], nc))
-    ln_phi_Z_serial(Tf, Pf, Zf, xf, m, out)
+    (ln_phi_Z_parallel if Tf.shape[0] >= _PARALLEL_MIN else ln_phi_Z_serial)(Tf, Pf, Zf, xf, m, out)
     return out.reshape(shape + (nc,))
