@@ -64,7 +64,7 @@ KINDS = ("fill", "cascade_fill", "vent", "liquefied_fill", "transient_fill", "tr
 FILL_KINDS = ("fill", "cascade_fill", "liquefied_fill", "transient_fill")
 VENT_KINDS = ("vent", "transient_vent")
 TRANSIENT_KINDS = ("transient_fill", "transient_vent")
-MODELS = ("PR", "PR78", "SRK")
+MODELS = ("PR", "PR78", "SRK", "tc-PR", "tc-RK", "PR-fitted")   # eosfill.model.models.MODELS (a test keeps them equal)
 RESTRICTIONS = ("orifice", "valve", "mass_flow", "pressure_ramp")
 HEAT_MODELS = ("adiabatic", "wall")
 
@@ -627,6 +627,8 @@ def _read_fluid(top, ctx) -> FluidSpec:
     ctx.normalise = sec.boolean("normalise", default=False)
     model = sec.string("model", default="PR", choices=MODELS, fold=True)
     shift = sec.string("volume_shift", default="none", choices=("none", "peneloux"), fold=True)
+    if shift != "none" and model not in ("PR", "PR78", "SRK"):
+        raise ctx.error(sec.key("volume_shift"), shift, f'"none": model {model} carries its own volume translation')
     composition = ctx.composition(sec.require("composition", "the fluid's components and fractions, "
                                               "e.g. { methane = 0.9, ethane = 0.1 }"), "fluid.composition")
     kij = []
