@@ -61,3 +61,17 @@ def test_fluids_command_prints_every_model(capsys):
     out = capsys.readouterr().out
     for name in MODELS:
         assert f"model {name}:" in out
+
+
+def test_fitted_parameters_warn_outside_their_recorded_range():
+    # data/fluids/pr_twu_fitted.csv: hydrogen valid_T_min_K 200, valid_P_max_MPa 100
+    import warnings
+
+    f = eosfill.Fluid({"hydrogen": 0.5, "ethanol": 0.5}, model="PR-fitted")
+    with pytest.warns(eosfill.RangeWarning, match="hydrogen were fitted for 200-400 K"):
+        f.single_phase(150.0, 1e6)
+    with pytest.warns(eosfill.RangeWarning, match="up to 100 MPa"):
+        eosfill.Fluid("hydrogen", model="PR-fitted").state(T=300.0, P=120e6)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", eosfill.RangeWarning)
+        eosfill.Fluid("hydrogen", model="PR-fitted").state(T=300.0, P=70e6)

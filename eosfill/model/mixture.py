@@ -149,6 +149,7 @@ class Mixture:
             arr.setflags(write=False)
         parts = self.model.component_parameters(comps, self.Tc, self.Pc, self.omega)
         self._component_lines = parts.lines
+        self._model_valid = parts.valid
         c = np.array(parts.c, dtype=float)
         if volume_shift is not None and self.model.carries_translation:
             same = (not isinstance(volume_shift, str)
@@ -283,6 +284,7 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
     present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
     idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
+    _check_model_range(fluid, T, P, present)
     sol = dict(Z=Z, v=rows[..., kp.TP_V_EOS], a=rows[..., kp.TP_A], a_T=rows[..., kp.TP_A_T],
                a_TT=rows[..., kp.TP_A_TT], b=rows[..., kp.TP_B], A=rows[..., kp.TP_ADIM],
                B=rows[..., kp.TP_BDIM], roots=rows[..., kp.TP_R0:kp.TP_R2 + 1],
@@ -304,6 +306,24 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     st._phase_code = code.astype(np.int8)
     st._beta = np.where(code == LIQUID, 0.0, 1.0)
     return st
+
+
+def _check_model_range(fluid, T, P, present):
+    """RangeWarning where a component's fitted model parameters are used outside the range
+    recorded with them (``valid_T_min_K``, ``valid_T_max_K``, ``valid_P_max_MPa``)."""
+    valid = fluid.__dict__.get("_model_valid", ())
+    if not valid or np.size(T) == 0:
+        return
+    import warnings
+
+    from eosfill.errors import RangeWarning
+
+    lo, hi, pmax = float(np.min(T)), float(np.max(T)), float(np.max(P))
+    for name, tmin, tmax, p_max in valid:
+        if present[fluid.names.index(name)] and (lo < tmin or hi > tmax or pmax > p_max):
+            warnings.warn(f"{fluid.model.name} parameters of {name} were fitted for {tmin:g}-{tmax:g} K and up to "
+                          f"{p_max / 1e6:g} MPa; used at T in [{lo:.6g}, {hi:.6g}] K, P up to {pmax / 1e6:.6g} MPa "
+                          "(an extrapolation: see data/fluids/pr_twu_fitted.csv)", RangeWarning, stacklevel=4)
 
 
 class State:

@@ -123,6 +123,9 @@ class ComponentParameters:
     alpha_params: np.ndarray
     c: np.ndarray
     lines: tuple = ()
+    valid: tuple = ()
+    """(name, T_min [K], T_max [K], P_max [Pa]) of each component whose parameters hold
+    only over a recorded range (fitted rows)."""
 
 
 @dataclass(frozen=True)
@@ -223,7 +226,7 @@ class Model:
         if np.any(missing):   # generalised tc-PR only where no fitted row exists (its ω range warns)
             params[missing] = fb_alpha.parameters(Tc[missing], Pc[missing], omega[missing])
             c[missing] = self.fallback_translation.shifts(Tc[missing], Pc[missing], omega[missing])
-        lines = []
+        lines, valid = [], []
         for i, comp in enumerate(components):
             row = rows.get(comp.name)
             if row is None:
@@ -234,13 +237,15 @@ class Model:
                 continue
             params[i] = row["L"], row["M"], row["N"]
             c[i] = row["c"]
+            valid.append((comp.name, float(row["valid_T_min_K"]), float(row["valid_T_max_K"]),
+                          1e6 * float(row["valid_P_max_MPa"])))
             lines.append(f"{comp.name}: Twu alpha L = {row['L']:.8g}, M = {row['M']:.8g}, N = {row['N']:.8g}; "
                          f"c = {row['c']:.8g} m3/mol: {row['source']} (data/fluids/{self.fitted_table}; fitted "
                          f"{row['T_range_K']} K, {row['P_range_MPa']} MPa; valid from {row['valid_T_min_K']} K; "
                          f"targets missed on held-out states: {row['targets_missed']})")
         for arr in (params, c):
             arr.setflags(write=False)
-        return ComponentParameters(al.TWU91, params, c, tuple(lines))
+        return ComponentParameters(al.TWU91, params, c, tuple(lines), tuple(valid))
 
     def describe(self, components=(), Tc=None, Pc=None, omega=None):
         """The model's full description as lines of text: its parts and their sources,
