@@ -1,28 +1,32 @@
-"""Model accuracy envelope: cubic densities against reference equations.
+"""Model accuracy against reference equations, measured at test time.
 
 Reference: CoolProp 8.0.0 (``CoolProp.CoolProp.PropsSI``, HEOS back end),
 test-only.  Its pure-fluid equations are the multiparameter reference
-equations of state of each fluid (hydrogen: Leachman et al. 2009; methane:
-Setzmann & Wagner 1991; nitrogen: Span et al. 2000; carbon dioxide: Span &
-Wagner 1996; argon: Tegeler et al. 1999; helium: Ortiz-Vega et al. as
-distributed in CoolProp), accurate to about 0.1 % or better in density at
-these conditions; the natural-gas mixture uses CoolProp's multi-fluid model
-with GERG-2008-type binary parameters (Kunz & Wagner 2012).
+equations of state of each fluid (hydrogen: Leachman et al. 2009; helium:
+Ortiz-Vega et al.; nitrogen: Span et al. 2000; argon: Tegeler et al. 1999;
+oxygen: Schmidt & Wagner 1985; methane: Setzmann & Wagner 1991; carbon
+dioxide: Span & Wagner 1996; air: Lemmon et al. 2000, pseudo-pure),
+accurate to about 0.1 % or better in density at these conditions; the
+natural gas uses CoolProp's multi-fluid model with GERG-2008-type binary
+parameters (Kunz & Wagner 2012).
 
-What is checked: a cubic equation of state is not exact.  Each row states
-the density deviation 100 (rho_cubic / rho_ref - 1) [%] we found with
-eosfill 0.1.0 and data/fluids/fluids.csv (constants taken from the same
-reference equations where available), and asserts that the deviation
-stays within MARGIN of it.  The "found" values are the models' known
-error, measured against CoolProp; they are not targets.  A change in the
-kernels, in the constants or in the reference library moves them and
-fails the test, which is the point: the error a user is told about in
-docs/accuracy.md must stay true.
+Every assertion compares eosfill with the reference equation at the same
+state, computed in the test; none holds an eosfill number:
 
-Sanity of the sign, from memory: plain PR over-predicts the density of
-supercritical light gases (hydrogen, helium, methane, nitrogen, argon) at
-fill pressures, and SRK under-predicts most of them - the consequence of
-PR's Zc = 0.307 and SRK's Zc = 1/3 against real Zc of about 0.29.
+* fitted model ("PR-fitted"): the targets of the accuracy issue (density
+  within 1 % at 230-360 K, 1-90 MPa, gas and supercritical; adiabatic fill
+  end temperature within 1 K) where ``data/fluids/pr_twu_fitted.csv``
+  records that the fit meets them on its held-out states (the states of
+  benchmarks/accuracy_table.py), and otherwise the held-out worst figure the
+  table records for that fluid (plus 0.02 points / 0.02 K for the
+  reference library's round-off between versions);
+* plain models (PR, SRK): the sign and size the literature states, from
+  memory: PR over-predicts the density of supercritical light gases at fill
+  pressures by a few per cent and SRK under-predicts it (PR's Zc = 0.307
+  and SRK's 1/3 against real Zc of about 0.29; e.g. the comparisons in
+  Le Guennec et al., Fluid Phase Equilib. 429 (2016) 301-312, from memory).
+  Asserted: PR between +0.5 % and +8 % at 20-35 MPa (up to +12 % at 70 MPa,
+  where the error grows with density), SRK below 0 %.
 """
 from __future__ import annotations
 
@@ -32,11 +36,9 @@ CoolProp = pytest.importorskip("CoolProp")
 from CoolProp.CoolProp import PropsSI  # noqa: E402
 
 import eosfill  # noqa: E402
+from eosfill.model.models import fitted_rows  # noqa: E402
 
 pytestmark = [pytest.mark.reference, pytest.mark.filterwarnings("ignore::eosfill.RangeWarning")]
-
-# allowed movement of a deviation, in percentage points of density
-MARGIN = 0.25
 
 T15 = 288.15  # 15 degC, common practice for fill ratings (no source)
 
@@ -44,70 +46,103 @@ NATGAS = {"methane": 0.9, "ethane": 0.05, "propane": 0.02, "nitrogen": 0.02, "ca
 NATGAS_COOLPROP = "HEOS::Methane[0.9]&Ethane[0.05]&Propane[0.02]&Nitrogen[0.02]&CarbonDioxide[0.01]"
 
 COOLPROP_NAME = {
-    "hydrogen": "Hydrogen", "methane": "Methane", "nitrogen": "Nitrogen",
-    "carbon dioxide": "CarbonDioxide", "argon": "Argon", "helium": "Helium",
+    "hydrogen": "Hydrogen", "helium": "Helium", "nitrogen": "Nitrogen", "argon": "Argon", "oxygen": "Oxygen",
+    "methane": "Methane", "carbon dioxide": "CarbonDioxide", "air": "Air",
 }
 
-# (fluid, model, T [K], P [Pa], found deviation [%]) - found with eosfill
-# 0.1.0 vs CoolProp 8.0.0 (see module docstring)
-FOUND = [
-    # hydrogen: 35 and 70 MPa vehicle tanks, 15 degC
-    ("hydrogen", "PR", T15, 35e6, +5.06),
-    ("hydrogen", "PR", T15, 70e6, +5.11),
-    ("hydrogen", "SRK", T15, 35e6, +0.28),
-    ("hydrogen", "SRK", T15, 70e6, -1.18),
-    # methane (CNG): 20 and 25 MPa
-    ("methane", "PR", T15, 20e6, +1.98),
-    ("methane", "PR", T15, 25e6, +2.77),
-    ("methane", "SRK", T15, 20e6, -4.60),
-    ("methane", "SRK", T15, 25e6, -4.43),
-    # nitrogen: 20 and 30 MPa cylinders
-    ("nitrogen", "PR", T15, 20e6, +2.92),
-    ("nitrogen", "PR", T15, 30e6, +4.46),
-    ("nitrogen", "SRK", T15, 20e6, -1.91),
-    ("nitrogen", "SRK", T15, 30e6, -1.40),
-    # carbon dioxide, gas side below its vapour pressure (6.4 MPa at 25 degC)
-    ("carbon dioxide", "PR", 298.15, 5e6, +2.38),
-    ("carbon dioxide", "SRK", 298.15, 5e6, -1.17),
-    # argon: 20 and 30 MPa cylinders
-    ("argon", "PR", T15, 20e6, +2.56),
-    ("argon", "PR", T15, 30e6, +3.30),
-    ("argon", "SRK", T15, 20e6, -2.47),
-    ("argon", "SRK", T15, 30e6, -2.80),
-]
+# round-off allowance between the fit's measurement and this one (same states, same reference library)
+ALLOW_PCT = 0.02
+ALLOW_K = 0.02
 
-FOUND_MIXTURE = [
-    # natural gas (CNG), bundled kij vs CoolProp's GERG-2008-type mixture model
-    ("PR", T15, 20e6, +1.94),
-    ("PR", T15, 25e6, +3.00),
-    ("SRK", T15, 20e6, -4.71),
-    ("SRK", T15, 25e6, -4.35),
-]
+# held-out density states: a subset of benchmarks/accuracy_table.py's grid (gas/supercritical in the reference)
+DENSITY_STATES = [(230.0, 10e6), (230.0, 35e6), (T15, 20e6), (T15, 50e6), (T15, 90e6), (360.0, 5e6), (360.0, 90e6)]
+FILLS = [(T15, 35e6), (T15, 87.5e6), (233.15, 50e6)]   # supply T [K], end = supply pressure [Pa]
 
 
 def _dev(rho, rho_ref):
     return 100.0 * (rho / rho_ref - 1.0)
 
 
-@pytest.mark.parametrize("name,model,T,P,found", FOUND,
-                         ids=[f"{m}-{n}-{P / 1e6:g}MPa" for n, m, T, P, _ in FOUND])
-def test_pure_gas_density_envelope(name, model, T, P, found):
-    # CoolProp 8.0.0 reference equation of the pure fluid
-    rho_ref = PropsSI("Dmass", "T", T, "P", P, COOLPROP_NAME[name])
-    st = eosfill.Fluid(name, model=model).state(T=T, P=P)
-    assert st.phase in ("gas", "supercritical")
-    dev = _dev(st.rho_mass, rho_ref)
-    assert abs(dev - found) < MARGIN, f"{name} {model} {P / 1e6:g} MPa: deviation {dev:+.3f} %, known {found:+.2f} %"
+def _gas_side(T, P, cp):
+    try:
+        phase = PropsSI("Phase", "T", T, "P", P, cp)
+    except ValueError:   # outside the reference equation's range (oxygen above 80 MPa at 288 K)
+        return False
+    ok = {CoolProp.iphase_gas, CoolProp.iphase_supercritical, CoolProp.iphase_supercritical_gas}
+    return phase in ok or (phase == CoolProp.iphase_supercritical_liquid and T > PropsSI("Tcrit", cp))
 
 
-@pytest.mark.parametrize("model,T,P,found", FOUND_MIXTURE,
-                         ids=[f"{m}-natgas-{P / 1e6:g}MPa" for m, T, P, _ in FOUND_MIXTURE])
-def test_natural_gas_density_envelope(model, T, P, found):
-    # CoolProp 8.0.0 multi-fluid mixture model (GERG-2008-type parameters)
-    rho_ref = PropsSI("Dmass", "T", T, "P", P, NATGAS_COOLPROP)
-    st = eosfill.Fluid(NATGAS, model=model).state(T=T, P=P)
-    dev = _dev(st.rho_mass, rho_ref)
-    assert abs(dev - found) < MARGIN, f"natural gas {model} {P / 1e6:g} MPa: deviation {dev:+.3f} %, known {found:+.2f} %"
+def _bound(row, quantity, target):
+    """The asserted bound: the target where the fit meets it, else its recorded held-out worst."""
+    worst = abs(float(row[f"held_out_{quantity}_worst_pct" if quantity == "density" else
+                          f"held_out_{quantity}_worst_K"]))
+    return target if worst <= target else worst
+
+
+FITTED_GASES = [n for n in COOLPROP_NAME if n in fitted_rows()]
+
+
+@pytest.mark.parametrize("name", FITTED_GASES)
+def test_fitted_model_density_meets_target_or_recorded_figure(name):
+    # CoolProp 8.0.0 reference equation of the pure fluid, held-out states
+    row = fitted_rows()[name]
+    bound = _bound(row, "density", 1.0)
+    fluid = eosfill.Fluid(name, model="PR-fitted")
+    cp = COOLPROP_NAME[name]
+    devs = []
+    for T, P in DENSITY_STATES:
+        if not _gas_side(T, P, cp):
+            continue
+        devs.append(_dev(fluid.state(T=T, P=P).rho_mass, PropsSI("Dmass", "T", T, "P", P, cp)))
+    assert devs
+    worst = max(devs, key=abs)
+    assert abs(worst) <= bound + ALLOW_PCT, f"{name} PR-fitted density {worst:+.3f} % (bound {bound:.2f} %)"
+
+
+@pytest.mark.parametrize("name", FITTED_GASES)
+def test_fitted_model_fill_end_temperature_meets_target_or_recorded_figure(name):
+    # adiabatic fill of an empty rigid vessel ending at the supply pressure: u_end = h_supply
+    # (first law, open system, no heat); reference end T from CoolProp 8.0.0 at (P, u)
+    row = fitted_rows()[name]
+    if not row["held_out_fill_end_T_worst_K"]:
+        pytest.skip("no fill figure recorded")
+    bound = _bound(row, "fill_end_T", 1.0)
+    fluid = eosfill.Fluid(name, model="PR-fitted")
+    cp = COOLPROP_NAME[name]
+    for Ts, P in FILLS:
+        if not _gas_side(Ts, P, cp):
+            continue
+        T_ref = PropsSI("T", "P", P, "Umolar", PropsSI("Hmolar", "T", Ts, "P", P, cp), cp)
+        T_end = fluid.state(P=P, u=fluid.state(T=Ts, P=P).h).T
+        assert abs(T_end - T_ref) <= bound + ALLOW_K, f"{name} fill from {Ts} K to {P / 1e6:g} MPa: " \
+                                                       f"{T_end - T_ref:+.3f} K (bound {bound:.2f} K)"
+
+
+@pytest.mark.parametrize("name", ["hydrogen", "nitrogen", "argon", "methane"])
+@pytest.mark.parametrize("P", [20e6, 35e6, 70e6])
+def test_pr_over_predicts_supercritical_light_gas_density(name, P):
+    # literature (from memory): plain PR over-predicts by a few per cent at fill pressures
+    dev = _dev(eosfill.Fluid(name, model="PR").state(T=T15, P=P).rho_mass,
+               PropsSI("Dmass", "T", T15, "P", P, COOLPROP_NAME[name]))
+    assert 0.5 < dev < (8.0 if P <= 35e6 else 12.0), f"PR {name} {P / 1e6:g} MPa: {dev:+.2f} %"
+
+
+@pytest.mark.parametrize("name", ["nitrogen", "argon", "methane"])
+@pytest.mark.parametrize("P", [20e6, 35e6])
+def test_srk_under_predicts_supercritical_gas_density(name, P):
+    # literature (from memory): SRK under-predicts dense-gas density (Zc 1/3 against about 0.29)
+    dev = _dev(eosfill.Fluid(name, model="SRK").state(T=T15, P=P).rho_mass,
+               PropsSI("Dmass", "T", T15, "P", P, COOLPROP_NAME[name]))
+    assert -8.0 < dev < 0.0, f"SRK {name} {P / 1e6:g} MPa: {dev:+.2f} %"
+
+
+@pytest.mark.parametrize("P", [20e6, 25e6])
+def test_natural_gas_plain_models_bracket_the_reference(P):
+    # CoolProp 8.0.0 multi-fluid mixture model (GERG-2008-type parameters): PR above, SRK below (from memory)
+    rho_ref = PropsSI("Dmass", "T", T15, "P", P, NATGAS_COOLPROP)
+    pr = _dev(eosfill.Fluid(NATGAS, model="PR").state(T=T15, P=P).rho_mass, rho_ref)
+    srk = _dev(eosfill.Fluid(NATGAS, model="SRK").state(T=T15, P=P).rho_mass, rho_ref)
+    assert 0.5 < pr < 8.0 and -8.0 < srk < 0.0
 
 
 @pytest.mark.parametrize("name", ["hydrogen", "methane", "nitrogen", "argon"])

@@ -78,6 +78,9 @@ def test_report_is_self_contained_with_caution_inputs_and_plots(demo_report):
     model = spec["fluid"].get("model", "PR")
     assert html.escape(cubic.MODELS[model].citation) in text
     assert "298.15 K" in text and "101 325 Pa" in text
+    # the model's parts and its measured error for the gas in hand (or that it was not measured)
+    assert f"model {model}:" in html.unescape(text)
+    assert re.search(r"measured against reference equations|accuracy not measured", html.unescape(text))
 
 
 def test_report_shows_the_closure_and_markdown_twin_matches(demo_report):

@@ -121,8 +121,8 @@ def _finite_state(st, what):
 def _fluid_options(p):
     p.add_argument("--fluid", required=p.prog.split()[-1] != "explain",
                    help='one fluid ("nitrogen") or a mixture ("methane=0.9,ethane=0.1")')
-    p.add_argument("--model", default="PR", type=str.upper, choices=("PR", "PR78", "SRK"),
-                   help="cubic equation of state (default PR)")
+    p.add_argument("--model", default="PR", help="model: PR (default), PR78, SRK, tc-PR, tc-RK or PR-fitted "
+                   "(case-insensitive; parts and sources: eosfill fluids)")
     p.add_argument("--basis", default="mole", choices=("mole", "mass"),
                    help="fractions in --fluid are mole (default) or mass fractions")
     p.add_argument("--normalise", action="store_true", help="rescale fractions to sum to one")
@@ -309,6 +309,10 @@ def cmd_fluids(args):
     for r in rows:
         print("  ".join(f"{v:<{w}}" for v, w in zip(r, widths)).rstrip())
     print(f"{len(rows) - 1} fluids; sources are keys of data/SOURCES.md.")
+    from eosfill.model.models import MODELS
+
+    for m in MODELS.values():   # every model's parts and their sources
+        print("\n" + "\n  ".join(m.describe()))
     return EXIT_OK
 
 

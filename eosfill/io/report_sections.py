@@ -55,6 +55,11 @@ def source_blocks(rep, scenario, fmt):
     rep.para(f"Equation of state: {model.name} — {model.citation}. Mixing: van der Waals one-fluid rule with "
              "binary interaction parameters k_ij (Michelsen & Mollerup 2007, ch. 3). Ideal-gas heat capacity: "
              "Poling, Prausnitz & O'Connell (2001) polynomial form.")
+    from eosfill.io.accuracy import accuracy_lines
+
+    rep.table(["model part and source"], [[ln] for ln in fluid.model_description()], f"Model {model.name}: its parts")
+    rep.table(["model error for this fluid"], [[ln] for ln in accuracy_lines(fluid)],
+              "Measured against reference equations (data/model_accuracy.csv, docs/accuracy.md)")
     rep.para(REFERENCE_STATE)
     rows = []
     keys = []

@@ -194,6 +194,8 @@ def _read_fluid(top, ctx) -> FluidSpec:
     ctx.normalise = sec.boolean("normalise", default=False)
     model = sec.string("model", default="PR", choices=MODELS, fold=True)
     shift = sec.string("volume_shift", default="none", choices=("none", "peneloux"), fold=True)
+    if shift != "none" and model not in ("PR", "PR78", "SRK"):
+        raise ctx.error(sec.key("volume_shift"), shift, f'"none": model {model} carries its own volume translation')
     composition = ctx.composition(sec.require("composition", "the fluid's components and fractions, "
                                               "e.g. { methane = 0.9, ethane = 0.1 }"), "fluid.composition")
     kij = []

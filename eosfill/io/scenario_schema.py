@@ -25,7 +25,7 @@ KINDS = ("fill", "cascade_fill", "vent", "liquefied_fill", "transient_fill", "tr
 FILL_KINDS = ("fill", "cascade_fill", "liquefied_fill", "transient_fill")
 VENT_KINDS = ("vent", "transient_vent")
 TRANSIENT_KINDS = ("transient_fill", "transient_vent")
-MODELS = ("PR", "PR78", "SRK")
+MODELS = ("PR", "PR78", "SRK", "tc-PR", "tc-RK", "PR-fitted")   # eosfill.model.models.MODELS (a test keeps them equal)
 RESTRICTIONS = ("orifice", "valve", "mass_flow", "pressure_ramp")
 HEAT_MODELS = ("adiabatic", "wall")
 

@@ -99,6 +99,9 @@ def trace_state(fluid, T, P):
         raise InputError("T", T, "T > 0 K")
     if not (np.isfinite(P) and P > 0.0):
         raise InputError("P", P, "P > 0 Pa")
+    soave = fluid.model.soave_alpha
+    if not soave and fluid.params.alpha_kind != 1:   # shown: Soave (C3) and Twu (A2); never another model's numbers
+        raise InputError("model", fluid.model.name, "a model with Soave's or Twu's alpha for a trace")
     p = fluid.params
     model = p.model
     d1, d2 = model.delta1, model.delta2
@@ -122,35 +125,53 @@ def trace_state(fluid, T, P):
     add(sec, "Omega_b", "Ωb", model.Omega_b, "", "critical-point constant of (C2)", _OMEGA_SOURCE[model.name])
     for i, n in enumerate(names):
         add(sec, f"x[{n}]", f"x_{n}", float(x[i]), "mol/mol", "mole fraction (given)", "")
+    for k, line in enumerate(fluid.model_description()):
+        add(sec, f"model_part[{k}]", "part", line, "", "model description (parts and sources)", "")
 
     # --- pure-component parameters ------------------------------------------
-    kappa = np.asarray(model.kappa(p.omega), dtype=float)  # (C3) κ(ω) of the model
-    s, ds, _ = cubic.soave_sqrt_alpha(T, p.Tc, kappa)  # (C3)
-    s, ds = np.asarray(s), np.asarray(ds)
     ac = model.Omega_a * R**2 * p.Tc**2 / p.Pc  # (C2)
     bi = model.Omega_b * R * p.Tc / p.Pc  # (C2)
-    ai = ac * s**2  # a_i = a_c,i α_i
-    ai_T = 2.0 * ac * s * ds  # d(a_c s²)/dT
+    if soave:
+        kappa = np.asarray(model.kappa(p.omega), dtype=float)  # (C3) κ(ω) of the model
+        s, ds, _ = cubic.soave_sqrt_alpha(T, p.Tc, kappa)  # (C3)
+        s, ds = np.asarray(s), np.asarray(ds)
+        alpha_i, dalpha_i = s**2, 2.0 * s * ds
+    else:   # the model's own α (A2), one compiled call per component
+        from eosfill.model.alpha import alpha_T
+
+        al = [alpha_T(p.alpha_kind, T, float(p.Tc[i]), *map(float, p.alpha_params[i])) for i in range(len(names))]
+        alpha_i, dalpha_i = np.array([r[0] for r in al]), np.array([r[1] for r in al])
+    ai = ac * alpha_i  # a_i = a_c,i α_i
+    ai_T = ac * dalpha_i  # a_c dα/dT
     for i, n in enumerate(names):
         sec = f"component {n}"
         comp = fluid.components[i]
         add(sec, f"Tc[{n}]", "Tc", float(p.Tc[i]), "K", "critical temperature", f"data: {comp.crit_source}")
         add(sec, f"Pc[{n}]", "Pc", float(p.Pc[i]), "Pa", "critical pressure", f"data: {comp.crit_source}")
         add(sec, f"omega[{n}]", "ω", float(p.omega[i]), "", "acentric factor", f"data: {comp.crit_source}")
-        if model.name == "PR78" and p.omega[i] > 0.491:
+        if not soave:
+            for k, sym in enumerate("LMN"):
+                add(sec, f"twu_{sym}[{n}]", sym, float(p.alpha_params[i, k]), "", f"Twu alpha parameter {sym}",
+                    "model description above (per component)")
+            add(sec, f"Tr[{n}]", "Tr", T / float(p.Tc[i]), "", "Tr = T/Tc", "")
+            add(sec, f"alpha[{n}]", "α", float(alpha_i[i]), "", "α = Tr^(N(M-1)) exp[L (1 - Tr^(N M))]   (A2)",
+                "Twu et al. 1991")
+        elif model.name == "PR78" and p.omega[i] > 0.491:
             ktext, ksrc = _KAPPA_PR78_HIGH
         elif model.name == "PR78":
             ktext, ksrc = _KAPPA_TEXT["PR"][0] + " (ω ≤ 0.491)", "Robinson & Peng 1978, GPA RR-28 (= Peng & Robinson 1976, Eq. 18)"
         else:
             ktext, ksrc = _KAPPA_TEXT[model.name]
-        add(sec, f"kappa[{n}]", "κ", float(kappa[i]), "", ktext, ksrc)
-        add(sec, f"Tr[{n}]", "Tr", T / float(p.Tc[i]), "", "Tr = T/Tc", "")
-        add(sec, f"sqrt_alpha[{n}]", "√α", float(s[i]), "", "√α = 1 + κ (1 - √Tr)   (C3)", "Soave 1972, Eq. 13")
-        add(sec, f"alpha[{n}]", "α", float(s[i] ** 2), "", "α = [1 + κ (1 - √Tr)]²   (C3)", "Soave 1972, Eq. 13")
+        if soave:
+            add(sec, f"kappa[{n}]", "κ", float(kappa[i]), "", ktext, ksrc)
+            add(sec, f"Tr[{n}]", "Tr", T / float(p.Tc[i]), "", "Tr = T/Tc", "")
+            add(sec, f"sqrt_alpha[{n}]", "√α", float(s[i]), "", "√α = 1 + κ (1 - √Tr)   (C3)", "Soave 1972, Eq. 13")
+            add(sec, f"alpha[{n}]", "α", float(s[i] ** 2), "", "α = [1 + κ (1 - √Tr)]²   (C3)", "Soave 1972, Eq. 13")
         add(sec, f"ac[{n}]", "a_c", float(ac[i]), "Pa m6/mol2", "a_c = Ωa R² Tc²/Pc   (C2)", _OMEGA_SOURCE[model.name].split(" (")[0].split(":")[0])
         add(sec, f"a[{n}]", "a_i", float(ai[i]), "Pa m6/mol2", "a_i = a_c α", "Soave 1972, Eq. 10")
         add(sec, f"a_T[{n}]", "da_i/dT", float(ai_T[i]), "Pa m6/(mol2 K)",
-            "da_i/dT = -a_c κ √α / √(T Tc)", "derivative of (C3)")
+            "da_i/dT = -a_c κ √α / √(T Tc)" if soave else "da_i/dT = a_c α g/T, g = N(M-1) - L N M Tr^(NM)",
+            "derivative of (C3)" if soave else "derivative of (A2)")
         add(sec, f"b[{n}]", "b_i", float(bi[i]), "m3/mol", "b_i = Ωb R Tc/Pc   (C2)", _OMEGA_SOURCE[model.name].split(" (")[0].split(":")[0])
 
     # --- mixing -------------------------------------------------------------
@@ -248,7 +269,7 @@ def trace_state(fluid, T, P):
     c = float(x @ np.asarray(fluid.volume_shift, dtype=float))
     if c != 0.0:
         add(sec, "shift", "c", c, "m3/mol", "c = Σ x_i c_i (volume translation)",
-            "Péneloux, Rauzy & Fréze 1982, Eq. 8")
+            "constant translation (Péneloux, Rauzy & Fréze 1982 form); c_i: model description above")
     v = v_eos - c
     add(sec, "v", "v", v, "m3/mol", "v = v_EOS - c" if c else "v = Z R T/P", "")
     add(sec, "Z", "Z", P * v / (R * T), "", "Z = P v/(R T)", "")

@@ -19,7 +19,7 @@ Sources
 (A1) Soave, Chem. Eng. Sci. 27 (1972) 1197-1203, Eq. 13 (κ(ω) Eq. 15);
      with Peng & Robinson, Ind. Eng. Chem. Fundam. 15 (1976) 59-64, Eq. 18
      (PR76 κ) and Robinson & Peng, GPA RR-28 (1978) (PR78 κ).  The κ(ω)
-     correlations live once, in :mod:`eosfill.model.cubic` (``kappa_pr76``,
+     correlations live once, in :mod:`eosfill.model.kappa` (``kappa_pr76``,
      ``kappa_pr78``, ``kappa_srk``); here κ is a per-component parameter.
 (A2) Twu, Bluck, Cunningham & Coon, Fluid Phase Equilib. 69 (1991) 33-50,
      doi:10.1016/0378-3812(91)90024-2 (the three-parameter α of their
@@ -75,7 +75,7 @@ from typing import Callable
 import numpy as np
 from numba import njit
 
-from . import cubic
+from . import kappa as cubic   # the κ(ω) correlations (C3)
 from ..errors import InputError
 from .translation import le_guennec_omega
 

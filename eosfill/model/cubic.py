@@ -80,30 +80,8 @@ from eosfill.constants import R
 SQRT2 = np.sqrt(2.0)
 
 
-# --------------------------------------------------------------------------
-# κ(ω) correlations of the Soave-type alpha function (C3)
-# --------------------------------------------------------------------------
-def kappa_pr76(omega):
-    """κ of Peng & Robinson (1976), Eq. 18: 0.37464 + 1.54226 ω - 0.26992 ω²."""
-    omega = np.asarray(omega, dtype=float)
-    return 0.37464 + 1.54226 * omega - 0.26992 * omega**2
-
-
-def kappa_pr78(omega):
-    """κ of Robinson & Peng (1978), GPA RR-28.
-
-    κ = 0.37464 + 1.54226 ω - 0.26992 ω²                         for ω ≤ 0.491
-    κ = 0.379642 + 1.48503 ω - 0.164423 ω² + 0.016666 ω³         for ω > 0.491
-    """
-    omega = np.asarray(omega, dtype=float)
-    high = 0.379642 + omega * (1.48503 + omega * (-0.164423 + omega * 0.016666))
-    return np.where(omega > 0.491, high, kappa_pr76(omega))
-
-
-def kappa_srk(omega):
-    """κ of Soave (1972), Eq. 15: 0.480 + 1.574 ω - 0.176 ω²."""
-    omega = np.asarray(omega, dtype=float)
-    return 0.480 + 1.574 * omega - 0.176 * omega**2
+# κ(ω) correlations of the Soave-type alpha function (C3): eosfill.model.kappa
+from eosfill.model.kappa import kappa_pr76, kappa_pr78, kappa_srk  # noqa: E402,F401
 
 
 @dataclass(frozen=True)
@@ -165,6 +143,9 @@ SRK = CubicModel(
 )
 
 MODELS = {"PR": PR, "PR78": PR78, "SRK": SRK}
+"""The cubic families (δ1, δ2, Ωa, Ωb, with the Soave κ(ω) of each plain model).
+The named models a Fluid uses (family + α + mixing + translation parts) are
+:data:`eosfill.model.models.MODELS`."""
 
 
 # kind code of Soave's α in eosfill.model.alpha (SOAVE there; a test keeps them equal)
@@ -194,7 +175,8 @@ class MixtureParameters:
     b : ndarray, shape (nc,)
         b_i of (C2) [m³/mol].
     kappa : ndarray, shape (nc,)
-        κ_i of (C3) [-] (the Soave α's parameter; p0 of ``alpha_params``).
+        κ_i of (C3) [-] (the Soave α's parameter; p0 of ``alpha_params``);
+        NaN when the model's α is not Soave's.
     delta1, delta2, Omega_a, Omega_b : float
         Family constants of (C1), (C2) [-].
     alpha_kind : int
@@ -233,6 +215,8 @@ class MixtureParameters:
         ac = model.Omega_a * R**2 * Tc**2 / Pc  # (C2)
         b = model.Omega_b * R * Tc / Pc  # (C2)
         kappa = np.asarray(model.kappa(omega), dtype=float)
+        if alpha_kind is not None and int(alpha_kind) != ALPHA_SOAVE:
+            kappa = np.full_like(kappa, np.nan)   # no Soave κ in this model: never used silently
         if alpha_kind is None:
             alpha_kind = ALPHA_SOAVE
             alpha_params = np.stack([kappa, np.zeros_like(kappa), np.zeros_like(kappa)], axis=-1)
@@ -273,8 +257,21 @@ def soave_sqrt_alpha(T, Tc, kappa):
     return s, ds, d2s
 
 
+def _alpha_other(T, p: MixtureParameters):
+    """α_i, α_i', α_i'' of a non-Soave α kind, shape (..., nc), from the compiled
+    α functions of :mod:`eosfill.model.alpha` (each checked against thermo there)."""
+    from eosfill.model import alpha
+
+    T = np.asarray(T, dtype=float)
+    al, dal, d2al = alpha.alpha_values(p.alpha_kind, T.ravel(), p.Tc, p.alpha_params)
+    shape = T.shape + (p.Tc.shape[0],)
+    return al.reshape(shape), dal.reshape(shape), d2al.reshape(shape)
+
+
 def component_a(T, p: MixtureParameters):
-    """a_i(T) = a_c,i α_i(T) per component [Pa m⁶/mol²], shape (..., nc)."""
+    """a_i(T) = a_c,i α_i(T) per component [Pa m⁶/mol²], shape (..., nc), with the model's α."""
+    if p.alpha_kind != ALPHA_SOAVE:
+        return p.ac * _alpha_other(T, p)[0]
     s, _, _ = soave_sqrt_alpha(T, p.Tc, p.kappa)
     return p.ac * s**2
 
@@ -283,7 +280,13 @@ def _sqrt_a(T, p: MixtureParameters):
     """q_i = √a_i ≥ 0 and its first two T-derivatives, shape (..., nc).
 
     (C4) takes √(a_i a_j) with the positive root: q_i = √a_c,i |s_i|, s = √α of (C3)
-    (s turns negative only far above Tc, past the minimum of Soave's α)."""
+    (s turns negative only far above Tc, past the minimum of Soave's α).  Another
+    α kind: q = √(a_c α), q' = a_c α'/(2 q), q'' = (a_c α'' - 2 q'²)/(2 q)."""
+    if p.alpha_kind != ALPHA_SOAVE:
+        al, dal, d2al = _alpha_other(T, p)
+        q = np.sqrt(p.ac * al)
+        dq = p.ac * dal / (2.0 * q)
+        return q, dq, (p.ac * d2al - 2.0 * dq * dq) / (2.0 * q)
     s, ds, d2s = soave_sqrt_alpha(T, p.Tc, p.kappa)
     sac = np.sqrt(p.ac)
     sg = np.where(s < 0.0, -1.0, 1.0)

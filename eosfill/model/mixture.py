@@ -25,13 +25,6 @@ from eosfill.errors import EosfillError, InputError
 PHASES = ("gas", "liquid", "supercritical", "two-phase", "three-phase")
 GAS, LIQUID, SUPERCRITICAL, TWO_PHASE, THREE_PHASE = 0, 1, 2, 3, 4
 
-# Péneloux, Rauzy & Fréze, Fluid Phase Equilib. 8 (1982) 7-23, Eq. 8 (SRK):
-#   c_i = 0.40768 (0.29441 - Z_RA,i) R Tc,i / Pc,i
-# with the Rackett compressibility estimated by Yamada & Gunn, J. Chem. Eng.
-# Data 18 (1973) 234-236: Z_RA = 0.29056 - 0.08775 ω.
-_PENELOUX_K = 0.40768
-_PENELOUX_Z = 0.29441
-
 
 def _as_float_array(name, value):
     try:
@@ -59,9 +52,14 @@ class Mixture:
     composition : str, dict or sequence of (name, fraction)
         One fluid name (pure), or {name: fraction}.  Names, aliases,
         formulas and CAS numbers are accepted, case-insensitive.
-    model : {"PR", "PR78", "SRK"}
-        Peng-Robinson 1976, Peng-Robinson with the 1978 κ(ω) for ω > 0.491,
-        or Soave-Redlich-Kwong 1972.
+    model : str
+        A name of :data:`eosfill.model.models.MODELS` (case-insensitive):
+        "PR" (Peng-Robinson 1976), "PR78" (the 1978 κ(ω) for ω > 0.491),
+        "SRK" (Soave-Redlich-Kwong 1972), "tc-PR", "tc-RK" (Le Guennec et al.
+        2016) or "PR-fitted" (Twu α and translation fitted per fluid by
+        eosfill; tc-PR for components without a fitted row).
+        ``fluid.model`` is the :class:`~eosfill.model.models.Model`;
+        ``fluid.model_description()`` lists its parts and sources.
     kij : dict, optional
         {(name1, name2): k_ij} overriding the bundled values.
     basis : {"mole", "mass"}
@@ -70,11 +68,15 @@ class Mixture:
         Rescale fractions to sum to one; otherwise they must sum to one
         within 1e-9.
     volume_shift : None, "peneloux" or array_like
-        Péneloux volume translation: None (off), "peneloux" (Péneloux et al.
-        1982 Eq. 8 with Yamada-Gunn Z_RA; published for SRK, applied to PR as
-        the same form) or per-component shifts c_i [m³/mol].  The shift moves
-        v and h (h - P c) and ln φ_i (- c_i P/RT); u, s and phase equilibria
-        are unchanged.
+        Volume translation of a plain model (PR, PR78, SRK): None (off),
+        "peneloux" (the family's Péneloux-type constants,
+        :func:`eosfill.model.translation.peneloux_shift`: Péneloux et al. 1982
+        for SRK, 0.50033/0.25969 for PR) or per-component shifts c_i
+        [m³/mol].  The shift moves v and h (h - P c) and ln φ_i (- c_i P/RT);
+        u, s and phase equilibria are unchanged.  A model with its own
+        translation (tc-PR, tc-RK, PR-fitted) refuses a shift (InputError),
+        except an array equal to its own (``fluid.volume_shift``).
+        ``fluid.volume_shift`` is the translation applied, whichever its origin.
 
     Examples
     --------
@@ -124,10 +126,9 @@ class Mixture:
         if basis == "mass":
             n = fracs / M
             fracs = n / n.sum()
-        mname = str(model).upper()
-        if mname not in cubic.MODELS:
-            raise InputError("model", model, '"PR", "PR78" or "SRK"')
-        self.model = cubic.MODELS[mname]
+        from eosfill.model.models import get_model
+
+        self.model = get_model(model)
         self.components = tuple(comps)
         self.names = tuple(c.name for c in comps)
         self.mole_fractions = fracs
@@ -135,27 +136,62 @@ class Mixture:
         self.Pc = np.array([c.Pc for c in comps])
         self.omega = np.array([c.omega for c in comps])
         self.molar_masses = M
-        self.kij, self.kij_sources = kij_matrix(list(self.names), mname, kij)
+        self.kij, self.kij_sources = kij_matrix(list(self.names), self.model.kij_table, kij)
+        if not self.model.soave_alpha:
+            note = f" (regressed for {self.model.kij_table} with Soave alpha; used unchanged with {self.model.name})"
+            self.kij_sources = {k: (v + note if v not in ("user", "none known: 0") else v)
+                                for k, v in self.kij_sources.items()}
         self.cp_coeffs = np.array([c.cp for c in comps])
         self.cp_Tmin = np.array([c.cp_Tmin for c in comps])
         self.cp_Tmax = np.array([c.cp_Tmax for c in comps])
         for arr in (self.mole_fractions, self.Tc, self.Pc, self.omega, self.molar_masses,
                     self.kij, self.cp_coeffs, self.cp_Tmin, self.cp_Tmax):
             arr.setflags(write=False)
-        if volume_shift is None:
-            c = np.zeros(len(comps))
+        parts = self.model.component_parameters(comps, self.Tc, self.Pc, self.omega)
+        self._component_lines = parts.lines
+        self._model_valid = parts.valid
+        c = np.array(parts.c, dtype=float)
+        if volume_shift is not None and self.model.carries_translation:
+            same = (not isinstance(volume_shift, str)
+                    and np.shape(volume_shift) == c.shape and np.array_equal(np.asarray(volume_shift, float), c))
+            if not same:
+                raise InputError("volume_shift", volume_shift,
+                                 f"None: model {self.model.name} carries its own volume translation "
+                                 f"({self.model.translation.name}); use a plain model (PR, PR78, SRK) "
+                                 "for a user shift")
         elif isinstance(volume_shift, str):
             if volume_shift.lower() != "peneloux":
                 raise InputError("volume_shift", volume_shift, 'None, "peneloux" or per-component shifts [m3/mol]')
-            Z_RA = 0.29056 - 0.08775 * self.omega
-            c = _PENELOUX_K * (_PENELOUX_Z - Z_RA) * R * self.Tc / self.Pc
-        else:
+            from eosfill.model.translation import peneloux_shift
+
+            c = peneloux_shift(self.model.family.name, self.Tc, self.Pc, self.omega)   # (V4) / (V6)
+        elif volume_shift is not None:
             c = _as_float_array("volume_shift", volume_shift)
             if c.shape != (len(comps),):
                 raise InputError("volume_shift", volume_shift, f"{len(comps)} shifts, one per component [m3/mol]")
+        c = np.array(c, dtype=float)
         self.volume_shift = c
         self.volume_shift.setflags(write=False)
-        self.params = cubic.MixtureParameters.build(self.model, self.Tc, self.Pc, self.omega, self.kij, c=c)
+        if self.model.soave_alpha:
+            self.params = cubic.MixtureParameters.build(self.model.family, self.Tc, self.Pc, self.omega,
+                                                        self.kij, c=c)
+        else:
+            self.params = cubic.MixtureParameters.build(self.model.family, self.Tc, self.Pc, self.omega,
+                                                        self.kij, c=c, alpha_kind=parts.alpha_kind,
+                                                        alpha_params=parts.alpha_params)
+
+    def model_description(self):
+        """The model's full description as lines of text: family, α, translation and mixing
+        parts with their sources, the k_ij table, and one line per component where the
+        parameters are per component (fitted rows labelled "fitted by eosfill to
+        <reference equation>"; components without a fitted row say they use tc-PR).
+        A user volume shift of a plain model adds a line."""
+        lines = self.model.describe()
+        lines += list(self._component_lines)
+        if not self.model.carries_translation and np.any(self.volume_shift != 0.0):
+            lines.append("user volume translation c_i [m3/mol]: " + ", ".join(
+                f"{n} {c:.6g}" for n, c in zip(self.names, self.volume_shift)))
+        return lines
 
     # ------------------------------------------------------------------
     @property
@@ -313,6 +349,7 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
     present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
     idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
+    _check_model_range(fluid, T, P, present)
     sol = dict(Z=Z, v=rows[..., kp.TP_V_EOS], a=rows[..., kp.TP_A], a_T=rows[..., kp.TP_A_T],
                a_TT=rows[..., kp.TP_A_TT], b=rows[..., kp.TP_B], A=rows[..., kp.TP_ADIM],
                B=rows[..., kp.TP_BDIM], roots=rows[..., kp.TP_R0:kp.TP_R2 + 1],
@@ -327,6 +364,24 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
     st._phase_code = code.astype(np.int8)
     st._beta = np.where(code == LIQUID, 0.0, 1.0)
     return st
+
+
+def _check_model_range(fluid, T, P, present):
+    """RangeWarning where a component's fitted model parameters are used outside the range
+    recorded with them (``valid_T_min_K``, ``valid_T_max_K``, ``valid_P_max_MPa``)."""
+    valid = fluid.__dict__.get("_model_valid", ())
+    if not valid or np.size(T) == 0:
+        return
+    import warnings
+
+    from eosfill.errors import RangeWarning
+
+    lo, hi, pmax = float(np.min(T)), float(np.max(T)), float(np.max(P))
+    for name, tmin, tmax, p_max in valid:
+        if present[fluid.names.index(name)] and (lo < tmin or hi > tmax or pmax > p_max):
+            warnings.warn(f"{fluid.model.name} parameters of {name} were fitted for {tmin:g}-{tmax:g} K and up to "
+                          f"{p_max / 1e6:g} MPa; used at T in [{lo:.6g}, {hi:.6g}] K, P up to {pmax / 1e6:.6g} MPa "
+                          "(an extrapolation: see data/fluids/pr_twu_fitted.csv)", RangeWarning, stacklevel=4)
 
 
 class State:
@@ -585,33 +640,38 @@ class State:
         return _out(d["cp"] / d["cv"])
 
     # --- departures and fugacity --------------------------------------------
+    def _cP(self):
+        """P Σ x_i c_i [J/mol]: what the volume translation moves h and g by (V2)."""
+        return np.asarray(self._P) * (np.asarray(self._x) @ self.fluid.volume_shift)
+
     @property
     def h_res(self):
-        """Residual enthalpy H^R (C7) [J/mol]."""
+        """Residual enthalpy H - H° at the same T, P [J/mol]: (C7) of the cubic, minus
+        P c of the volume translation (V2) (zero without one)."""
         self._require_single("h_res")
-        return _out(self._h_res)
+        return _out(self._h_res - self._cP())
 
     @property
     def s_res(self):
-        """Residual entropy S^R at the same T, P (C8) [J/(mol K)]."""
+        """Residual entropy S^R at the same T, P (C8) [J/(mol K)] (a translation leaves it)."""
         self._require_single("s_res")
         return _out(self._s_res)
 
     @property
     def u_res(self):
-        """Residual internal energy U^R (C9) [J/mol]."""
+        """Residual internal energy U^R (C9) [J/mol] (a translation leaves it)."""
         self._require_single("u_res")
         return _out(self._h_res - R * self._T * (self._sol["Z"] - 1.0))
 
     @property
     def g_res(self):
-        """Residual Gibbs energy G^R (C6) [J/mol]."""
+        """Residual Gibbs energy G^R = H^R - T S^R [J/mol] (C6, minus P c with a translation)."""
         self._require_single("g_res")
-        return _out(self._h_res - self._T * self._s_res)
+        return _out(self._h_res - self._cP() - self._T * self._s_res)
 
     @property
     def a_res(self):
-        """Residual Helmholtz energy A^R = G^R - R T (Z - 1) at the same T, P [J/mol]."""
+        """Residual Helmholtz energy A^R at the same T, P [J/mol] (a translation leaves it)."""
         self._require_single("a_res")
         return _out(self._h_res - self._T * self._s_res - R * self._T * (self._sol["Z"] - 1.0))
 
