@@ -144,7 +144,6 @@ def fill_to_amount(fluid, z, V, T_in, P_in, target_mass, T_settle, T0=None, P0=N
             continue
         T = np.asarray(st.T, dtype=float).reshape(-1)
         P = np.asarray(st.P, dtype=float).reshape(-1)
-        u = np.asarray(st.u, dtype=float).reshape(-1)
         phase = np.asarray(st.phase, dtype=object).reshape(-1)
         beta = np.asarray(st.vapor_fraction, dtype=float).reshape(-1)
         Mf = float(zf @ fluid.molar_masses)
