@@ -81,6 +81,7 @@ def test_transient_kind_runs_through_the_transient_module(tmp_path):
         mass_flow = "0.01 kg/s"
     """)
     res = jobs.run_scenario(sc, write=False)
+    # exact: a prescribed mass flow of 0.01 kg/s for 60 s admits 0.6 kg
     assert res.mass[-1] - res.mass[0] == pytest.approx(0.01 * 60.0, rel=1e-6)
     assert "local codes" in render(res)
 

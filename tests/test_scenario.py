@@ -73,7 +73,7 @@ def test_valid_scenario_reads_to_si(tmp_path):
     # gauge pressure measured from the scenario's own ambient pressure
     assert math.isclose(sc.ambient.pressure, 0.95 * BAR, rel_tol=1e-12)
     assert math.isclose(sc.initial.pressure, 20 * BAR + 0.95 * BAR, rel_tol=1e-12)
-    assert math.isclose(sc.supply.temperature, (60 + 459.67) / 1.8, rel_tol=1e-12)
+    assert math.isclose(sc.supply.temperature, (60 + 459.67) / 1.8, rel_tol=1e-12)  # T/K = (t/°F + 459.67)/1.8, NIST SP 811
     assert math.isclose(sc.supply.pressure, 3600 * PSI, rel_tol=1e-12)
     assert math.isclose(sc.stop.target_settled_pressure, 200 * BAR, rel_tol=1e-12)
     assert math.isclose(sc.stop.settled_temperature, 288.15)  # default 15 °C, common practice

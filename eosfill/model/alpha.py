@@ -318,42 +318,41 @@ def alpha_values(kind, T, Tc, params):
 # --------------------------------------------------------------------------
 # generalised tc-PR / tc-RK parameters (A4)
 # --------------------------------------------------------------------------
-def tc_pr_L_M(omega):
-    """L, M of the tc-PR α (Le Guennec, Privat & Jaubert 2016); N = 2.
+# (L, M) coefficients, each a quadratic a ω² + b ω + c, per family (A4)
+TC_L_M_COEFFICIENTS = {
+    "PR": ((0.1290, 0.6039, 0.0877), (0.1760, -0.2600, 0.8884)),   # tc-PR
+    "SRK": ((0.0947, 0.6871, 0.1508), (0.1615, -0.2349, 0.8876)),  # tc-RK
+}
+
+
+def tc_L_M(omega, family):
+    """L, M of the translated-consistent Twu α (A4) for ``family`` "PR" or "SRK"
+    (Le Guennec, Privat & Jaubert 2016); N = 2.
 
     Parameters
     ----------
     omega : array_like
         Acentric factor [-]; clipped to the correlation's range (with a
         :class:`~eosfill.errors.RangeWarning`).
+    family : {"PR", "SRK"}
 
     Returns
     -------
     L, M : ndarray [-]
     """
-    o = le_guennec_omega(omega, "PR")
-    L = 0.1290 * o**2 + 0.6039 * o + 0.0877
-    M = 0.1760 * o**2 - 0.2600 * o + 0.8884
-    return L, M
+    o = le_guennec_omega(omega, family)
+    (aL, bL, cL), (aM, bM, cM) = TC_L_M_COEFFICIENTS[family]
+    return aL * o**2 + bL * o + cL, aM * o**2 + bM * o + cM
+
+
+def tc_pr_L_M(omega):
+    """L, M of the tc-PR α (A4); see :func:`tc_L_M`."""
+    return tc_L_M(omega, "PR")
 
 
 def tc_rk_L_M(omega):
-    """L, M of the tc-RK α (Le Guennec, Privat & Jaubert 2016); N = 2.
-
-    Parameters
-    ----------
-    omega : array_like
-        Acentric factor [-]; clipped to the correlation's range (with a
-        :class:`~eosfill.errors.RangeWarning`).
-
-    Returns
-    -------
-    L, M : ndarray [-]
-    """
-    o = le_guennec_omega(omega, "SRK")
-    L = 0.0947 * o**2 + 0.6871 * o + 0.1508
-    M = 0.1615 * o**2 - 0.2349 * o + 0.8876
-    return L, M
+    """L, M of the tc-RK α (A4); see :func:`tc_L_M`."""
+    return tc_L_M(omega, "SRK")
 
 
 # --------------------------------------------------------------------------

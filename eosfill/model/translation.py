@@ -183,8 +183,13 @@ def le_guennec_omega(omega, family):
     return np.clip(o, lo, hi)
 
 
-def tc_pr_shift(Tc, Pc, omega):
-    """c_i of tc-PR, (V7): (R Tc/Pc)(0.0198 ω - 0.0065) [m³/mol].
+# c_i = (R Tc/Pc)(a ω + b) of the translated-consistent models, per family
+TC_SHIFT_COEFFICIENTS = {"PR": (0.0198, -0.0065),   # tc-PR, (V7)
+                         "SRK": (0.0172, 0.0096)}   # tc-RK, (V8)
+
+
+def tc_shift(Tc, Pc, omega, family):
+    """c_i of tc-PR (V7) or tc-RK (V8): (R Tc/Pc)(a ω + b) [m³/mol].
 
     Le Guennec, Privat & Jaubert, Fluid Phase Equilib. 429 (2016) 301-312.
 
@@ -196,37 +201,26 @@ def tc_pr_shift(Tc, Pc, omega):
         Critical pressures [Pa].
     omega : array_like, shape (nc,)
         Acentric factors [-] (clipped to the correlation's range, with a warning).
+    family : {"PR", "SRK"}
 
     Returns
     -------
     ndarray, shape (nc,)
         c_i [m³/mol].
     """
-    o = le_guennec_omega(omega, "PR")
-    return R * np.asarray(Tc, dtype=float) / np.asarray(Pc, dtype=float) * (0.0198 * o - 0.0065)
+    o = le_guennec_omega(omega, family)
+    a, b = TC_SHIFT_COEFFICIENTS[family]
+    return R * np.asarray(Tc, dtype=float) / np.asarray(Pc, dtype=float) * (a * o + b)
+
+
+def tc_pr_shift(Tc, Pc, omega):
+    """c_i of tc-PR, (V7); see :func:`tc_shift`."""
+    return tc_shift(Tc, Pc, omega, "PR")
 
 
 def tc_rk_shift(Tc, Pc, omega):
-    """c_i of tc-RK, (V8): (R Tc/Pc)(0.0172 ω + 0.0096) [m³/mol].
-
-    Le Guennec, Privat & Jaubert, Fluid Phase Equilib. 429 (2016) 301-312.
-
-    Parameters
-    ----------
-    Tc : array_like, shape (nc,)
-        Critical temperatures [K].
-    Pc : array_like, shape (nc,)
-        Critical pressures [Pa].
-    omega : array_like, shape (nc,)
-        Acentric factors [-] (clipped to the correlation's range, with a warning).
-
-    Returns
-    -------
-    ndarray, shape (nc,)
-        c_i [m³/mol].
-    """
-    o = le_guennec_omega(omega, "SRK")
-    return R * np.asarray(Tc, dtype=float) / np.asarray(Pc, dtype=float) * (0.0172 * o + 0.0096)
+    """c_i of tc-RK, (V8); see :func:`tc_shift`."""
+    return tc_shift(Tc, Pc, omega, "SRK")
 
 
 # --------------------------------------------------------------------------
