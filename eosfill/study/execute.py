@@ -166,7 +166,10 @@ def _run_pool(run_case, run_batch, chunks, on_rows, workers):
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
     from concurrent.futures.process import BrokenProcessPool
 
-    ctx = multiprocessing.get_context("fork" if sys.platform.startswith("linux") else "spawn")
+    # not "fork": numba's OpenMP threading layer, once a parallel kernel has run in
+    # this process, makes a forked child terminate ("fork() called from a process
+    # already using GNU OpenMP"); a fork server starts workers from a clean process
+    ctx = multiprocessing.get_context("forkserver" if sys.platform.startswith("linux") else "spawn")
     pending = {i: items for i, items in enumerate(chunks)}
     deaths = dict.fromkeys(pending, 0)
     while pending:
