@@ -10,6 +10,8 @@ practice govern.
 """
 from __future__ import annotations
 
+import functools
+
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
@@ -253,13 +255,11 @@ class Scenario:
         with ``scenario.fluid().with_composition(scenario.mole_fractions(...))``.
         """
         if self._fluid is None:
-            from eosfill.states.fluid import Fluid
-
             spec = self.fluid_spec
-            comp = {n: spec.composition.get(n, 0.0) for n in self.component_names()}
-            kij = {tuple(k.pair): k.kij for k in spec.kij}
-            self._fluid = Fluid(comp, model=spec.model, kij=kij or None, normalise=True,
-                                volume_shift=None if spec.volume_shift == "none" else spec.volume_shift)
+            comp = tuple((n, float(spec.composition.get(n, 0.0))) for n in self.component_names())
+            kij = tuple((tuple(k.pair), float(k.kij)) for k in spec.kij)
+            shift = None if spec.volume_shift == "none" else spec.volume_shift
+            self._fluid = _fluid_of(comp, spec.model, kij, shift)
         return self._fluid
 
     def mole_fractions(self, composition=None):
@@ -315,3 +315,13 @@ class Scenario:
                          f"{format_quantity(b.temperature, 'temperature')}, "
                          f"{self.pressure_text(b.pressure, f'banks[{i}].pressure')}")
         return lines
+
+
+@functools.lru_cache(maxsize=64)
+def _fluid_of(comp, model, kij, volume_shift):
+    """One :class:`eosfill.Fluid` per (composition, model, k_ij, translation): a study's
+    scenarios of one fluid share it instead of building its parameters again for every
+    case (a Fluid is not changed after it is made; its arrays are read-only)."""
+    from eosfill.states.fluid import Fluid
+
+    return Fluid(dict(comp), model=model, kij=dict(kij) or None, normalise=True, volume_shift=volume_shift)

@@ -29,6 +29,7 @@ pint is imported on first use so that ``import eosfill`` stays fast.
 """
 from __future__ import annotations
 
+import functools
 import math
 import re
 from dataclasses import dataclass
@@ -193,6 +194,51 @@ def _dim_matches(ureg, unit, si):
     return unit is not None and unit.dimensionality == ureg.parse_units(si).dimensionality
 
 
+class _UnitProblem(ValueError):
+    """Why a unit text cannot be used for a kind of quantity (worded into an InputError)."""
+
+
+@functools.lru_cache(maxsize=1024)
+def _conversion(unit_text, kind, have_molar_mass):
+    """(scale, offset, per_mass, gauge) with SI value = offset + scale · number for a
+    value written in ``unit_text`` (pint's own conversion of 0 and 1, so affine units such
+    as degC keep pint's offsets).  Cached: a study parses the same units many times."""
+    k = KINDS[kind]
+    ureg = registry()
+    gauge = False
+    if kind == "temperature":
+        unit_text = _TEMPERATURE_WORDS.get(" ".join(unit_text.lower().split()), unit_text)
+    tidy = _tidy_unit(unit_text)
+    unit = _units_or_none(ureg, tidy)
+    if kind == "pressure" and not _dim_matches(ureg, unit, k.si):
+        for pattern, is_gauge in ((_GAUGE, True), (_ABSOLUTE, False)):
+            m = pattern.match(unit_text.strip())
+            if m and m.group(1).strip():
+                base = _units_or_none(ureg, _tidy_unit(m.group(1)))
+                if _dim_matches(ureg, base, k.si):
+                    unit, gauge = base, is_gauge
+                    break
+    if unit is None:
+        raise _UnitProblem(f"unknown unit {unit_text!r}")
+    target = k.si
+    per_mass = False
+    if not _dim_matches(ureg, unit, k.si):
+        if k.mass_si and _dim_matches(ureg, unit, k.mass_si):
+            if not have_molar_mass:
+                raise _UnitProblem("a per-kilogram value needs the fluid's molar mass")
+            target, per_mass = k.mass_si, True
+        else:
+            raise _UnitProblem(f"{unit_text!r} is {_dimension_words(unit)}")
+    try:
+        offset = float(ureg.Quantity(0.0, unit).to(target).magnitude)
+        # the size of one unit (a temperature difference for degC, degF): pint's own factor
+        one = ureg.Quantity(1.0, unit) - ureg.Quantity(0.0, unit) if offset else ureg.Quantity(1.0, unit)
+        scale = float(one.to(target).magnitude)
+    except Exception as exc:  # offset-unit arithmetic and the like
+        raise _UnitProblem(str(exc)) from None
+    return scale, offset, per_mass, gauge
+
+
 def parse_quantity(text, kind, key_path, ambient_pressure=STANDARD_ATMOSPHERE, default_unit=None,
                    molar_mass=None):
     """Convert a value as written by a user to a float in SI units.
@@ -250,36 +296,12 @@ def parse_quantity(text, kind, key_path, ambient_pressure=STANDARD_ATMOSPHERE, d
             raise _fail(key_path, text, kind, "the unit is missing")
         unit_text = default_unit
 
-    ureg = registry()
-    gauge = False
-    if kind == "temperature":
-        unit_text = _TEMPERATURE_WORDS.get(" ".join(unit_text.lower().split()), unit_text)
-    tidy = _tidy_unit(unit_text)
-    unit = _units_or_none(ureg, tidy)
-    if kind == "pressure" and not _dim_matches(ureg, unit, k.si):
-        for pattern, is_gauge in ((_GAUGE, True), (_ABSOLUTE, False)):
-            m = pattern.match(unit_text.strip())
-            if m and m.group(1).strip():
-                base = _units_or_none(ureg, _tidy_unit(m.group(1)))
-                if _dim_matches(ureg, base, k.si):
-                    unit, gauge = base, is_gauge
-                    break
-    if unit is None:
-        raise _fail(key_path, text, kind, f"unknown unit {unit_text!r}")
-    target = k.si
-    per_mass = False
-    if not _dim_matches(ureg, unit, k.si):
-        if k.mass_si and _dim_matches(ureg, unit, k.mass_si):
-            if molar_mass is None:
-                raise _fail(key_path, text, kind, "a per-kilogram value needs the fluid's molar mass")
-            target, per_mass = k.mass_si, True
-        else:
-            raise _fail(key_path, text, kind, f"{unit_text!r} is {_dimension_words(unit)}")
     try:
-        value = ureg.Quantity(number, unit).to(target).magnitude
-    except Exception as exc:  # offset-unit arithmetic and the like
+        scale, offset, per_mass, gauge = _conversion(unit_text, kind, molar_mass is not None)
+    except _UnitProblem as exc:
         raise _fail(key_path, text, kind, str(exc)) from None
-    value = float(value)
+    # an affine map to SI (offset only for temperatures in degC, degF), set up once per unit
+    value = number * scale + offset
     if per_mass:
         value *= molar_mass
     if gauge:
@@ -307,7 +329,12 @@ def is_gauge(text) -> bool:
     m = _NUMBER.match(text)
     if not m or not m.group(2):
         return False
-    unit_text = m.group(2)
+    return _is_gauge_unit(m.group(2))
+
+
+@functools.lru_cache(maxsize=256)
+def _is_gauge_unit(unit_text) -> bool:
+    """True when a pressure unit text is a gauge unit (cached per unit text)."""
     ureg = registry()
     if _dim_matches(ureg, _units_or_none(ureg, _tidy_unit(unit_text)), "Pa"):
         return False
