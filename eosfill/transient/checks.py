@@ -50,6 +50,72 @@ def _recomputed_row(fluid, V, row):
     return n, n * float(st.u), 0.0, worst_status(getattr(st, "status", CONVERGED))
 
 
+def _single_phase_batches(fluid, rows):
+    """The State of the content's root at each single-phase row's (T, P), as
+    {row index: (State of one row, index in it)}: one :meth:`single_phase` call per
+    composition for the rows that share it (a fixed-composition run: one call for
+    all rows), the rows whose content is on the other root then one at a time.
+    Each row is the same one-state kernel as :func:`_recomputed_row` evaluates."""
+    groups = {}
+    for i, r in enumerate(rows):
+        g = r["gas"]
+        if g["pr"] is None or "phase" in g:
+            continue
+        x = np.asarray(g["x"], dtype=float)
+        groups.setdefault(x.tobytes(), (x, []))[1].append(i)
+    out = {}
+    for x, idx in groups.values():
+        f = fluid if np.array_equal(x, fluid.mole_fractions) else fluid.with_composition(x)
+        T = np.array([rows[i]["T"] for i in idx], dtype=float)
+        P = np.array([rows[i]["P"] for i in idx], dtype=float)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            st = f.single_phase(T, P)
+        v = np.atleast_1d(st.v)
+        for k, i in enumerate(idx):
+            vg = rows[i]["gas"]["v"]
+            if abs(float(v[k]) / vg - 1.0) > 1e-6:   # the content is on the other root
+                with np.errstate(invalid="ignore", divide="ignore"):
+                    one = f.single_phase(rows[i]["T"], rows[i]["P"], which="liquid" if vg < float(v[k]) else "vapour")
+                out[i] = (one, None)
+            else:
+                out[i] = (st, k)
+    return out
+
+
+def _pick(st, k, name):
+    a = getattr(st, name)
+    return a if k is None else np.atleast_1d(a)[k]
+
+
+def _phase_labels(fluid, rows):
+    """:func:`_phase_label` of every output row, single-phase rows in batches."""
+    one = _single_phase_batches(fluid, rows)
+    labels = []
+    for i, r in enumerate(rows):
+        if i in one:
+            st, k = one[i]
+            labels.append(str(_pick(st, k, "phase")))
+        else:
+            labels.append(_phase_label(fluid, r))
+    return labels
+
+
+def _recomputed_rows(fluid, V, rows):
+    """:func:`_recomputed_row` of every output row, single-phase rows in batches."""
+    one = _single_phase_batches(fluid, rows)
+    out = []
+    for i, r in enumerate(rows):
+        if i in one:
+            st, k = one[i]
+            n = V / float(_pick(st, k, "v"))
+            status = getattr(st, "status", CONVERGED)
+            out.append((n, n * float(_pick(st, k, "u")), 0.0,
+                        worst_status(status if k is None or np.ndim(status) == 0 else np.atleast_1d(status)[k])))
+        else:
+            out.append(_recomputed_row(fluid, V, r))
+    return out
+
+
 def _closure(m, ys, rows, y0):
     """(T3) relative mass and energy closure, the largest over the output times, and the
     largest two-phase pressure residual.
@@ -60,7 +126,7 @@ def _closure(m, ys, rows, y0):
     Mw = m.fluid.molar_masses
     a = m.ia
     m0 = float(y0[:m.nc] @ Mw)
-    recomputed = [_recomputed_row(m.fluid, m.V, r) for r in rows]
+    recomputed = _recomputed_rows(m.fluid, m.V, rows)
     Mx = np.array([float(np.asarray(r["gas"]["x"]) @ Mw) for r in rows])
     mass = np.array([q[0] for q in recomputed]) * Mx
     m_in, m_out = ys[:, a], ys[:, a + 1]

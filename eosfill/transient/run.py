@@ -16,7 +16,7 @@ from eosfill.transient import flow as _flow
 from eosfill.constants import R
 from eosfill.equilibrium.solid import path_solid_risk
 from eosfill.errors import ConvergenceError, EosfillError, InputError, LimitWarning, worst_status
-from eosfill.transient.checks import _closure, _flags, _phase_label
+from eosfill.transient.checks import _closure, _flags, _phase_labels
 from eosfill.transient.heat import ConstantCoefficient, LayeredWall, LumpedWall
 from eosfill.transient.result import IntegrationError, TransientResult
 from eosfill.transient.rhs import _Model
@@ -360,7 +360,7 @@ class _Run:
         P = np.array([r["P"] for r in rows])
         mass = ys[:, :m.nc] @ Mw
         beta = np.array([r["gas"]["beta"] for r in rows])
-        phase = np.array([_phase_label(m.fluid, r) for r in rows], dtype=object)
+        phase = np.array(_phase_labels(m.fluid, rows), dtype=object)
         res = TransientResult(
             kind=m.mode, t=times, P=P, T_gas=T,
             T_wall_inner=np.array([r["Tw_in"] for r in rows]), T_wall_outer=np.array([r["Tw_out"] for r in rows]),
