@@ -91,7 +91,15 @@ STATUS_TEXT = {
 
 def worst_status(*statuses) -> int:
     """The worst (largest) status code among scalars or arrays of codes (None is skipped)."""
-    import numpy as np
+    worst = CONVERGED
+    for s in statuses:
+        if s is None:
+            continue
+        if isinstance(s, int):            # the common case of one code: no numpy
+            worst = max(worst, s)
+            continue
+        import numpy as np
 
-    codes = [np.max(np.asarray(s)) for s in statuses if s is not None and np.size(s) > 0]
-    return int(max(codes, default=CONVERGED))
+        if np.size(s) > 0:
+            worst = max(worst, int(np.max(np.asarray(s))))
+    return int(worst)
