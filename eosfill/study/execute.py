@@ -170,6 +170,11 @@ def _run_pool(run_case, run_batch, chunks, on_rows, workers):
     # this process, makes a forked child terminate ("fork() called from a process
     # already using GNU OpenMP"); a fork server starts workers from a clean process
     ctx = multiprocessing.get_context("forkserver" if sys.platform.startswith("linux") else "spawn")
+    if ctx.get_start_method() == "forkserver":
+        # the server imports the engine once (importing starts no OpenMP threads); each
+        # worker forked from it then skips those imports
+        ctx.set_forkserver_preload(["eosfill.states.fluid", "eosfill.model.properties",
+                                    "eosfill.equilibrium.solvers", "eosfill.vessel.balances"])
     pending = {i: items for i, items in enumerate(chunks)}
     deaths = dict.fromkeys(pending, 0)
     while pending:
