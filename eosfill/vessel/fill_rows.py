@@ -28,6 +28,9 @@ from eosfill.vessel.inputs import _rows_state
 from eosfill.vessel.roots import increasing_roots
 
 ROOT_STOPS = ("target_pressure", "target_settled_pressure", "supply_pressure")
+#: a pressure stop criterion is met when |P / P_goal - 1| <= TARGET_RTOL at the end (the root
+#: search stops at 1e-13, or at a bracket of 1e-14 n; dln P/dln n is of order 1 to 3)
+TARGET_RTOL = 1e-10
 #: the flow stops at the supply pressure: an end pressure above it by more than this (relative)
 SUPPLY_SLACK = 1e-12
 
@@ -210,10 +213,16 @@ class FillRows:
         rows = np.array([i for i in range(self.size) if i not in errors], dtype=int)
 
         def search(name, rows):
-            x, errs = increasing_roots(lambda r, at: self.residual(name, rows[r], at), n_lo[rows],
-                                       self.n_guess[rows], self.cap[rows], f"fill to {name}")
+            x, fx, errs = increasing_roots(lambda r, at: self.residual(name, rows[r], at), n_lo[rows],
+                                           self.n_guess[rows], self.cap[rows], f"fill to {name}")
             for j, exc in errs.items():
                 errors[int(rows[j])] = self._named(name, rows[j], exc)
+            # verified before it is returned: the criterion met within TARGET_RTOL
+            for j in np.flatnonzero(np.isfinite(x) & ~(np.abs(fx) <= TARGET_RTOL)):
+                errors[int(rows[j])] = ConvergenceError(
+                    f"fill to {name}", f"the end pressure misses its goal by {fx[j]:.3g} (relative; allowed "
+                    f"{TARGET_RTOL:g})", dict(n=float(x[j])), float(fx[j]))
+                x[j] = np.nan
             n[rows] = x
             return rows[np.isfinite(x)]
 

@@ -45,6 +45,8 @@ def increasing_roots(f, lo, hi, cap, what, *, maxgrow=60, maxiter=200, flo=None)
     -------
     x : array (n,)
         The root of each row (NaN where it failed).
+    fx : array (n,)
+        The residual at x.
     errors : dict
         {row: exception} of the rows that failed; ``f(lo) >= 0`` gives a
         ConvergenceError saying so (the caller may name the input instead).
@@ -55,6 +57,7 @@ def increasing_roots(f, lo, hi, cap, what, *, maxgrow=60, maxiter=200, flo=None)
     n = lo.size
     errors = {}
     x = np.full(n, np.nan)
+    fx = np.full(n, np.nan)
     alive = np.ones(n, dtype=bool)
 
     def evaluate(rows, at):
@@ -72,7 +75,7 @@ def increasing_roots(f, lo, hi, cap, what, *, maxgrow=60, maxiter=200, flo=None)
     else:
         flo = np.array(flo, dtype=float)
     for i in np.flatnonzero(alive & ~(flo < 0)):
-        x[i] = lo[i]
+        x[i], fx[i] = lo[i], flo[i]
         if flo[i] != 0:
             errors[int(i)] = ConvergenceError(what, "the end condition is already met or passed at the start",
                                               dict(n_lo=float(lo[i]), f_lo=float(flo[i])))
@@ -103,10 +106,9 @@ def increasing_roots(f, lo, hi, cap, what, *, maxgrow=60, maxiter=200, flo=None)
     # Illinois regula falsi on [lo, hi]: f(lo) < 0 <= f(hi)
     act = np.flatnonzero(alive)
     done0 = act[np.abs(fhi[act]) <= FTOL]
-    x[done0] = hi[done0]
+    x[done0], fx[done0] = hi[done0], fhi[done0]
     act = act[np.abs(fhi[act]) > FTOL]
     side = np.zeros(n, dtype=np.int8)
-    fx = np.full(n, np.nan)
     for _ in range(maxiter):
         if act.size == 0:
             break
@@ -134,4 +136,4 @@ def increasing_roots(f, lo, hi, cap, what, *, maxgrow=60, maxiter=200, flo=None)
                                           dict(n=float(x[i]), n_lo=float(lo[i]), n_hi=float(hi[i])), float(fx[i]))
         alive[i] = False
     x[list(errors)] = np.nan
-    return x, errors
+    return x, fx, errors
