@@ -104,6 +104,47 @@ def test_batch_rows_equal_single_runs_exactly(tmp_path, monkeypatch):
                for a, b in zip(r1.values(), r2.values()))
 
 
+@pytest.mark.parametrize("stop, values", [
+    ("target_pressure", ["150 bar", "200 bar", "260 bar"]),          # 260 bar: above the supply, an input error
+    ("target_settled_pressure", ["150 bar", "240 bar", "10 bar"]),   # 240 bar cooled: the supply cannot; 10 bar: below the start
+    ("supply_pressure", None),
+])
+def test_pressure_target_batch_rows_equal_single_runs_exactly(tmp_path, monkeypatch, stop, values):
+    base = BASE.replace('target_mass = "7 kg"', f'{stop} = "{values[0]}"' if values else "supply_pressure = true")
+    grid = f'"stop.{stop}" = [{", ".join(repr(v).replace(chr(39), chr(34)) for v in values)}]' if values else ""
+    p = scenario_file(tmp_path, f"""
+        [sweep]
+        [sweep.grid]
+        "initial.pressure" = ["10 bar", "30 bar"]
+        "supply.temperature" = ["0 degC", "30 degC"]
+        {grid}
+    """, base=base)
+    study = load_study(p)
+    single = []
+    for c in study.cases:
+        try:
+            single.append(study.case.run_one(c))
+        except Exception as exc:  # noqa: BLE001 - compared with the batch's row
+            single.append(exc)
+    calls = []
+    real = jobs.run_scenario
+    monkeypatch.setattr(jobs, "run_scenario", lambda *a, **k: calls.append(1) or real(*a, **k))
+    batch = study.case.run_batch(study.cases)
+    assert calls == []  # every case, failed ones included, went through the vectorised path
+    for s, b in zip(single, batch):
+        if isinstance(s, Exception):
+            assert type(b) is type(s) and str(b) == str(s)
+            continue
+        assert s.keys() == b.keys()
+        assert all(same(s[k], b[k]) for k in s), [(k, s[k], b[k]) for k in s if not same(s[k], b[k])]
+    if stop != "supply_pressure":
+        kinds = {type(r).__name__ if isinstance(r, Exception) else (r["stop"], r["stop_met"]) for r in batch}
+        assert "InputError" in kinds
+        assert (stop, True) in kinds
+        if stop == "target_settled_pressure":
+            assert ("supply_pressure", False) in kinds
+
+
 def test_vent_batch_rows_equal_single_runs_exactly(tmp_path, monkeypatch):
     # adiabatic vents of nitrogen (demo values): the isentropic end state, the enthalpy let out
     # and the lowest temperature on the path, all cases in one call of each solver

@@ -17,12 +17,25 @@ from eosfill.io.sweep_rows import NAN, result_row
 # --------------------------------------------------------------------------
 def _batchable(sc):
     """A fill the vector path computes exactly as ``fill`` does (see eosfill.vessel.batch)."""
-    st, v, ini = sc.stop, sc.vessel, sc.initial
+    st, v = sc.stop, sc.vessel
     return (sc.kind == "fill" and v.wall_mass is None and v.wall_specific_heat is None
-            and st.temperature_limit is None
-            and (st.target_mass is not None or st.target_fill_density is not None)
-            and sc.supply.composition is None and ini.composition is None
+            and st.temperature_limit is None and _fill_stop(sc) is not None
             and sc.supply.temperature_schedule is None)
+
+
+def _fill_stop(sc):
+    """(stop of eosfill.vessel.batch.fill_to_stop, target) of a fill scenario, or None."""
+    st = sc.stop
+    if st.target_mass is not None:
+        return "target_mass", st.target_mass
+    if st.target_fill_density is not None:
+        return "target_mass", st.target_fill_density * sc.vessel.volume
+    for key in ("target_pressure", "target_settled_pressure"):
+        if getattr(st, key) is not None:
+            return key, getattr(st, key)
+    if st.supply_pressure:
+        return "supply_pressure", NAN
+    return None
 
 
 def _batchable_vent(sc):
@@ -35,8 +48,10 @@ def _batchable_vent(sc):
 
 def _mixture_key(sc):
     f = sc.fluid_spec
+    streams = (sc.supply.composition if sc.supply is not None else None, sc.initial.composition)
     return (tuple(sc.component_names()), tuple(sc.mole_fractions()), f.model, f.volume_shift,
-            tuple((tuple(k.pair), k.kij) for k in f.kij))
+            tuple((tuple(k.pair), k.kij) for k in f.kij),
+            tuple(None if c is None else tuple(sc.mole_fractions(c)) for c in streams))
 
 
 def run_scenarios(scenarios):
@@ -47,7 +62,7 @@ def run_scenarios(scenarios):
     scenario, and any case the batch leaves, through
     :func:`eosfill.io.jobs.run_scenario` one at a time."""
     from eosfill.io import jobs
-    from eosfill.vessel.batch import fill_to_amount
+    from eosfill.vessel.batch import fill_to_stop
 
     from eosfill.vessel.batch import vent_isentropic
 
@@ -55,7 +70,7 @@ def run_scenarios(scenarios):
     groups, vents = {}, {}
     for i, sc in enumerate(scenarios):
         if _batchable(sc):
-            groups.setdefault(_mixture_key(sc), []).append(i)
+            groups.setdefault((_mixture_key(sc), _fill_stop(sc)[0]), []).append(i)
         elif _batchable_vent(sc):
             vents.setdefault(_mixture_key(sc), []).append(i)
     for rows in vents.values():
@@ -77,32 +92,31 @@ def run_scenarios(scenarios):
         for k, i in enumerate(rows):
             if res["ok"][k]:
                 outs[i] = _batch_vent_row(scenarios[i], res, k)
-    for rows in groups.values():
+    for (_, stop), rows in groups.items():
         if len(rows) < 2:
             continue
         scs = [scenarios[i] for i in rows]
         first = scs[0]
-        fluid = first.fluid()
-        z = first.mole_fractions()
 
         def arr(get):
             return np.array([np.nan if get(s) is None else get(s) for s in scs], dtype=float)
 
-        V = arr(lambda s: s.vessel.volume)
-        target = np.array([s.stop.target_mass if s.stop.target_mass is not None
-                           else s.stop.target_fill_density * s.vessel.volume for s in scs])
         try:
-            res = fill_to_amount(
-                fluid, z, V, arr(lambda s: s.supply.temperature), arr(lambda s: s.supply.pressure), target,
-                arr(lambda s: s.stop.settled_temperature),
+            res = fill_to_stop(
+                first.fluid(), first.mole_fractions(first.supply.composition), arr(lambda s: s.vessel.volume),
+                arr(lambda s: s.supply.temperature), arr(lambda s: s.supply.pressure), stop,
+                np.array([_fill_stop(s)[1] for s in scs], dtype=float), arr(lambda s: s.stop.settled_temperature),
                 T0=arr(lambda s: None if s.initial.empty else s.initial.temperature),
                 P0=arr(lambda s: s.initial.pressure), mass0=arr(lambda s: s.initial.mass),
                 nominal_pressure=arr(lambda s: s.vessel.working_pressure),
-                nominal_temperature=arr(lambda s: s.vessel.working_temperature))
+                nominal_temperature=arr(lambda s: s.vessel.working_temperature),
+                z0=first.mole_fractions(first.initial.composition))
         except Exception:  # noqa: BLE001 - the single path says what is wrong, case by case
             continue
         for k, i in enumerate(rows):
-            if res["ok"][k]:
+            if res["error"][k] is not None:
+                outs[i] = res["error"][k]  # the exception the single run raises
+            elif res["ok"][k]:
                 outs[i] = _batch_row(scenarios[i], res, k)
     for i, sc in enumerate(scenarios):
         if outs[i] is None:
@@ -133,14 +147,18 @@ def _batch_row(sc, res, k):
     lim["_volume"] = sc.vessel.volume
     _limit_flags(final, lim, flags)
     _overfill_flag(settled, flags)
-    stop = "target_mass" if sc.stop.target_mass is not None else "target_fill_density"
+    from eosfill.io.inputs import _stop_of
+
+    stop = _stop_of(sc)[0] if res["stop_met"][k] else str(res["stop"][k])
+    if not res["stop_met"][k]:
+        flags.append(res["unmet_flag"][k])
     nominal = P_nom is not None
     return {"T_end [K]": final.T, "P_end [Pa]": final.P, "mass_end [kg]": mass,
             "mass_change [kg]": mass - float(res["m0"][k]), "phase_end": final.phase,
             "vapor_fraction_end [-]": final.vapor_fraction, "T_wall_end [K]": NAN, "T_min [K]": NAN,
             "P_settled [Pa]": settled.P, "short_fill [kg]": float(res["short_fill"][k]) if nominal else NAN,
             "state_of_charge [-]": float(res["state_of_charge"][k]) if nominal else NAN,
-            "stop": stop, "stop_met": True, "energy_closure [-]": float(res["energy_closure"][k]),
+            "stop": stop, "stop_met": bool(res["stop_met"][k]), "energy_closure [-]": float(res["energy_closure"][k]),
             "mass_closure [-]": float(res["mass_closure"][k]), "flags": len(flags)}
 
 

@@ -111,7 +111,6 @@ from eosfill.vessel.liquefied import (  # noqa: F401
     _pure_params,
 )
 from eosfill.vessel.fill import (  # noqa: F401
-    _expand_up,
     fill,
     _initial_content,
     _limit_flags,

@@ -36,8 +36,9 @@ class _Content:
 
     def composition(self, N, z_in):
         """(V1) z after N mol of composition z_in entered."""
-        n = self.n0 + N
-        return (self.n0 * self.z0 + N * z_in) / n if self.n0 > 0 else np.array(z_in, dtype=float)
+        from eosfill.vessel.fill_rows import mixed_composition
+
+        return mixed_composition(self.n0, self.z0, N, z_in)
 
     def end_state(self, n, z, E):
         """The state with n u(T, V/n) + C_w (T - T_w0) = E  (V2)-(V3)."""

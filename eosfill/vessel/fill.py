@@ -11,8 +11,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from eosfill.errors import ConvergenceError, InputError
+from eosfill.errors import InputError
 from eosfill.vessel.closure import _Content, _fill_closure, _refuse_unclosed
+from eosfill.vessel.fill_rows import SUPPLY_SLACK, FillRows, densest, first_guess, target_error, unmet_flag
 from eosfill.vessel.inputs import (
     FILL_STOPS,
     T_NOMINAL,
@@ -117,19 +118,6 @@ def _scan_first(func, a, b, npts=12):
     return None, False
 
 
-def _expand_up(func, lo, guess, cap, what):
-    """Smallest bracket [lo, hi] with func(hi) >= 0, hi growing from guess up to cap."""
-    hi = min(guess, cap)
-    for _ in range(60):
-        if func(hi) >= 0:
-            return hi
-        if hi >= cap:
-            break
-        hi = min(cap, lo + 1.6 * (hi - lo))
-    raise ConvergenceError(what, "the end condition is not reached below the model's densest content",
-                           dict(n_lo=lo, n_hi=hi))
-
-
 # --------------------------------------------------------------------------
 # fill from a supply at constant state
 # --------------------------------------------------------------------------
@@ -206,19 +194,11 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
     M_in = _molar_mass(fluid, z_in)
     n0, st0 = _initial_content(fluid, z0, initial, V)
     P0 = _f(st0.P) if st0 is not None else 0.0
-    if P0 >= supply.P:
-        raise InputError("supply.P", supply.P, f"a supply pressure above the vessel's initial {P0:.6g} Pa")
-    if stop in ("target_pressure", "target_settled_pressure") and target > supply.P and stop == "target_pressure":
-        raise InputError("target_pressure", target,
-                         f"at most the supply pressure {supply.P:.6g} Pa (a fill cannot end above it)")
-    if stop == "target_pressure" and target <= P0:
-        raise InputError("target_pressure", target, f"above the initial pressure {P0:.6g} Pa")
     M0 = _molar_mass(fluid, z0)
     m0 = n0 * M0
-    if stop == "target_mass" and target <= m0:
-        raise InputError("target_mass", target, f"above the initial mass {m0:.6g} kg")
-    if stop == "target_fill_density" and target * V <= m0:
-        raise InputError("target_fill_density", target, f"above the initial {m0 / V:.6g} kg/m3")
+    err = target_error(stop, target, supply.P, P0, m0, V)
+    if err is not None:
+        raise err
     if temperature_limit is not None:
         temperature_limit = _positive("temperature_limit", temperature_limit, "a temperature > 0 K")
     U0 = n0 * _f(st0.u) if st0 is not None else 0.0
@@ -233,55 +213,41 @@ def fill(vessel: Vessel, supply: Stream, initial: Stream | None = None, *, stop=
     def mass(n):
         return m0 + (n - n0) * M_in
 
-    def crit(name, n):
-        if name == "target_mass":
-            return mass(n) - target
-        if name == "target_fill_density":
-            return mass(n) / V - target
-        if name == "target_settled_pressure":
-            z = c.composition(n - n0, z_in)
-            return _f(_state(fluid, z, T=T_settle, v=V / n).P) - target
-        P_goal = supply.P if name == "supply_pressure" else target
-        return (_f(at(n)[0].P) - P_goal) / P_goal
-
-    # the densest content the model allows, and a first guess from the supply's density
-    b_max = float(np.max(fluid.params.b - fluid.volume_shift))
-    cap = V / (1.0005 * b_max)
-    n_guess = max(n0 * 1.05, V / _f(st_in.v)) if st_in.phase != "liquid" else 0.9 * V / _f(st_in.v)
-    n_lo = n0 if n0 > 0 else 1e-9 * n_guess
-    if n0 == 0.0:
-        # an empty vessel: the first gas admitted expands into vacuum; a liquid supply may then fall
-        # below the model's temperature range, so start where the end state exists
-        for _ in range(9):
-            try:
-                at(n_lo)
-                break
-            except InputError:
-                n_lo *= 10.0
+    n_guess = first_guess(n0, V, _f(st_in.v), str(st_in.phase))
     notes = ["the supply enters with its own enthalpy (a throttle or regulator between supply and vessel "
              "is isenthalpic); the vessel is rigid and, apart from the heat given, adiabatic"]
     if vessel.wall_heat_capacity > 0:
         notes.append("the wall ends at the gas temperature (thermal equilibrium, lumped heat capacity)")
     flags = [f"supply: {m}" for m in st_in.solid_risk.messages]  # a solid in the supply line
-
-    def solve_for(name):
-        """n_f with the criterion met (V1)-(V3); brackets grow from the supply's density."""
-        if name == "target_mass":
-            return n0 + (target - m0) / M_in
-        if name == "target_fill_density":
-            return n0 + (target * V - m0) / M_in
-        g = lambda n: crit(name, n)  # noqa: E731
-        hi = _expand_up(g, n_lo, n_guess, cap, f"fill to {name}")
-        return _brentq(g, n_lo, hi, xtol=1e-14 * hi, what=f"fill to {name}")
+    # the fill as one row of FillRows: the code of the batch (eosfill.vessel.batch.fill_to_stop)
+    rows = FillRows(fluid, z_in, z0, V, n0, U0, h_in, c.Q, T_settle, supply.P,
+                    np.nan if target is None else target, n_guess, densest(fluid, V),
+                    content=c if vessel.wall_heat_capacity > 0 else None)
+    start = rows.start()
+    if start[1]:
+        raise start[1][0]
+    n_lo = float(start[0][0])
 
     met, reached = True, stop
-    n_end = solve_for(stop)
-    if stop != "supply_pressure" and _f(at(n_end)[0].P) > supply.P * (1.0 + 1e-12):
+    if stop == "target_mass":
+        n_end = n0 + (target - m0) / M_in
+    elif stop == "target_fill_density":
+        n_end = n0 + (target * V - m0) / M_in
+    else:
+        ns, reach, errors = rows.solve(stop, start)
+        if errors:
+            raise errors[0]
+        n_end, reached = float(ns[0]), str(reach[0])
+        if reached != stop:
+            met = False
+            flags.append(unmet_flag(stop, target, mass(n_end)))
+    if stop in ("target_mass", "target_fill_density") and _f(at(n_end)[0].P) > supply.P * (1.0 + SUPPLY_SLACK):
         # the flow stops at the supply pressure before the criterion is met
-        n_end = solve_for("supply_pressure")
-        met, reached = False, "supply_pressure"
-        flags.append(f"stop criterion {stop} = {target:.6g} (SI) cannot be met: the flow stops at the supply "
-                     f"pressure with {mass(n_end):.6g} kg in the vessel")
+        ns, _, errors = rows.solve("supply_pressure", start)
+        if errors:
+            raise errors[0]
+        n_end, met, reached = float(ns[0]), False, "supply_pressure"
+        flags.append(unmet_flag(stop, target, mass(n_end)))
 
     curve_n = np.linspace(n_lo, n_end, 7)
     curve = []

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from eosfill.errors import CONVERGED, ConvergenceError, InputError, worst_status
+from eosfill.errors import CONVERGED, ConvergenceError, EosfillError, InputError, worst_status
 
 
 CAUTION = ("Caution: estimates from an equation of state and simplified models (adiabatic or "
@@ -193,12 +193,79 @@ def _with_status(func):
 
 def _state(fluid, z, **spec):
     """State of composition z (silences the 0/0 of absent components); its solver status
-    (``getattr(state, "status", CONVERGED)``) is recorded for the result being built."""
+    (``getattr(state, "status", CONVERGED)``) is recorded for the result being built.
+
+    One state of a pure fluid at fixed v and u, h or s is solved by the batch path of the
+    state solver (a batch of two equal rows; the state returned is the (T, v) state at its
+    temperature), so that it equals the same state solved in a batch
+    (:func:`_rows_state`) bit for bit; the solvers' one-state shortcut for that pair
+    reaches the same state by other arithmetic."""
     f = fluid.with_composition(z) if z is not None else fluid
     with np.errstate(invalid="ignore", divide="ignore"):
-        st = f.state(**spec)
+        if _batch_only(f, spec) and all(np.size(v) == 1 for v in spec.values()):
+            two = f.state(**{k: np.full(2, float(np.asarray(v).reshape(-1)[0])) for k, v in spec.items()})
+            _note_status(int(np.max(two.status)))
+            st = f.state(T=float(two.T[0]), v=float(np.asarray(spec["v"]).reshape(-1)[0]))
+        else:
+            st = f.state(**spec)
     _note_status(getattr(st, "status", CONVERGED))
     return st
+
+
+def _batch_only(f, spec):
+    """A pair whose one-state solve takes another path than its batch solve (pure fluid, v with u/h/s)."""
+    return f.is_pure and "v" in spec and "T" not in spec and "P" not in spec
+
+
+ROW_KEYS = ("T", "P", "v", "u", "h", "beta")
+
+
+def _rows_state(fluid, z, **spec):
+    """Many states of composition z (arrays of one value per row), each equal to
+    :func:`_state` of its row alone, bit for bit.
+
+    Returns ``(values, errors)``: ``values`` a dict of arrays ``T, P, v, u, h, beta``,
+    ``phase`` (NaN and "" where a row failed) and ``solid`` (a solid may form: the
+    state's ``solid_risk`` flag), ``errors`` {row: exception} of the
+    rows whose state cannot be solved, with the exception :func:`_state` raises for that
+    row alone.  One call of the solver for all rows; if it refuses the batch, row by row."""
+    spec = {k: np.asarray(v, dtype=float).reshape(-1) for k, v in spec.items()}
+    n = max(v.size for v in spec.values())
+    spec = {k: np.broadcast_to(v, (n,)) for k, v in spec.items()}
+    out = {k: np.full(n, np.nan) for k in ROW_KEYS}
+    out["phase"] = np.full(n, "", dtype=object)
+    out["solid"] = np.zeros(n, dtype=bool)
+    errors = {}
+    if n == 0:
+        return out, errors
+    f = fluid.with_composition(z) if z is not None else fluid
+    st = None
+    if n > 1 or not _batch_only(f, spec):
+        try:
+            with np.errstate(invalid="ignore", divide="ignore"):
+                st = f.state(**spec)
+            _note_status(int(np.max(st.status)))
+        except EosfillError:
+            st = None
+    if st is not None:
+        for k in ROW_KEYS[:-1]:
+            out[k] = np.asarray(getattr(st, k), dtype=float).reshape(n)
+        out["beta"] = np.asarray(st.vapor_fraction, dtype=float).reshape(n)
+        out["phase"] = np.asarray(st.phase, dtype=object).reshape(n)
+        out["solid"] = np.asarray(st.solid_risk.flag, dtype=bool).reshape(n)
+        return out, errors
+    for i in range(n):  # the batch was refused: each row alone, as _state solves it
+        try:
+            one = _state(fluid, z, **{k: float(v[i]) for k, v in spec.items()})
+        except EosfillError as exc:
+            errors[i] = exc
+            continue
+        for k in ROW_KEYS[:-1]:
+            out[k][i] = _f(getattr(one, k))
+        out["beta"][i] = _f(one.vapor_fraction)
+        out["phase"][i] = str(one.phase)
+        out["solid"][i] = bool(one.solid_risk.messages)
+    return out, errors
 
 
 def _comp_dict(fluid, z):
