@@ -176,9 +176,13 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     return _flash_result(beta, x, y, two, status, resid, lnK, iters, T, P, raise_on_fail)
 
 
-def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, two, status, resid, iters):
+def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, two, status, resid, iters,
+                tm=None):
     """The full compiled flash for ``rows`` (None: all) into the output arrays;
-    the Gibbs-energy minimisation for the rows the kernel hands back."""
+    the Gibbs-energy minimisation for the rows the kernel hands back.
+    ``tm`` (n,) given: also the multi-trial stability test of each result
+    (:func:`eosfill.equilibrium.flash_kernels.flash_tested_serial`), its
+    lowest tm* into ``tm``."""
     from eosfill.equilibrium import flash_kernels as fk
 
     m = p.kernel_model
@@ -189,9 +193,14 @@ def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, t
     else:
         sub = tuple(a[rows] for a in (T, P, z, beta, x, y, lnK, two, status, resid, iters))
     Ts, Ps, zs, bs, xs, ys, ks, twos, sts, rs, its = sub
-    loop = fk.flash_TP_parallel if Ts.shape[0] >= _PARALLEL_MIN else fk.flash_TP_serial
-    loop(Ts, Ps, zs, m, Pc, omega, float(tol), int(maxiter), bool(second_order), bs, xs, ys, ks, twos, sts, rs,
-         its)
+    par = Ts.shape[0] >= _PARALLEL_MIN
+    if tm is None:
+        loop = fk.flash_TP_parallel if par else fk.flash_TP_serial
+        loop(Ts, Ps, zs, m, Pc, omega, float(tol), int(maxiter), bool(second_order), bs, xs, ys, ks, twos, sts, rs,
+             its)
+    else:
+        loop = fk.flash_tested_parallel if par else fk.flash_tested_serial
+        loop(Ts, Ps, zs, m, Pc, omega, float(tol), int(maxiter), bs, xs, ys, ks, twos, sts, rs, its, tm)
     g = np.flatnonzero(sts == fk.NEED_GIBBS)
     if g.size:
         # Newton at step 25 fell short: the Gibbs-energy minimisation, then
@@ -202,6 +211,12 @@ def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, t
         fk.flash_resume_serial(Ts[g], Ps[g], zs[g], m, float(tol), int(maxiter), gb, gx, gy, gk, gt, gs, gr, gi)
         for a, v in zip((bs, xs, ys, ks, twos, sts, rs, its), (gb, gx, gy, gk, gt, gs, gr, gi)):
             a[g] = v
+        if tm is not None:
+            from eosfill.equilibrium.multiphase import stability_multi_batch
+
+            ref = np.where((gt & (gb < 0.5))[:, None], gx, gy)
+            tm[g] = stability_multi_batch(Ts[g], Ps[g], ref, p, extra=np.stack([gy, gx], axis=1),
+                                          detect_only=True)[0]
     if rows is not None:
         for a, v in zip((beta, x, y, lnK, two, status, resid, iters), (bs, xs, ys, ks, twos, sts, rs, its)):
             a[rows] = v

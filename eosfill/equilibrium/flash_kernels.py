@@ -380,3 +380,38 @@ def flash_warm_parallel(T, P, z, m, lnK, tol, maxiter, ok, beta, x, y, resid, it
         lo, hi = c * _CHUNK, min(n, (c + 1) * _CHUNK)
         flash_warm_serial(T[lo:hi], P[lo:hi], z[lo:hi], m, lnK[lo:hi], tol, maxiter, ok[lo:hi], beta[lo:hi],
                           x[lo:hi], y[lo:hi], resid[lo:hi], iters[lo:hi])
+
+
+# --------------------------------------------------------------------------
+# the flash and the multi-trial stability test of its result, in one pass
+# --------------------------------------------------------------------------
+@njit(**KERNEL)
+def flash_tested_serial(T, P, z, m, Pc, omega, tol, maxiter, beta, x, y, lnK, two, status, resid, iters, tm):
+    """Steps 1-4 for states k, then the multi-trial test (M1, detect_only)
+    of the result's more abundant phase with the phases as extra trials:
+    tm[k] < -1e-9 means a further phase (the multiphase flash takes over).
+    States handed back for the Gibbs-energy minimisation get tm = NaN."""
+    nc = z.shape[1]
+    work, hist, lnW = np.empty((9, nc)), np.zeros((2, nc)), np.empty((2, nc))
+    extra = np.empty((2, nc))
+    w = np.empty(nc)
+    for k in range(T.shape[0]):
+        beta[k], two[k], status[k], resid[k], iters[k] = flash_TP_one(
+            T[k], P[k], z[k], m, Pc, omega, tol, maxiter, True, x[k], y[k], lnK[k], work, hist, lnW)
+        if status[k] == NEED_GIBBS:
+            tm[k] = np.nan
+            continue
+        extra[0] = y[k]
+        extra[1] = x[k]
+        ref = x[k] if (two[k] and 1.0 - beta[k] > beta[k]) else y[k]
+        tm[k] = stability_multi_one(T[k], P[k], ref, m, Pc, omega, extra, 1e-10, 400, True, w, work[1:])
+
+
+@njit(parallel=True, nogil=True, **KERNEL)
+def flash_tested_parallel(T, P, z, m, Pc, omega, tol, maxiter, beta, x, y, lnK, two, status, resid, iters, tm):
+    """:func:`flash_tested_serial` over chunks of states in parallel."""
+    n = T.shape[0]
+    for c in prange((n + _CHUNK - 1) // _CHUNK):
+        lo, hi = c * _CHUNK, min(n, (c + 1) * _CHUNK)
+        flash_tested_serial(T[lo:hi], P[lo:hi], z[lo:hi], m, Pc, omega, tol, maxiter, beta[lo:hi], x[lo:hi],
+                            y[lo:hi], lnK[lo:hi], two[lo:hi], status[lo:hi], resid[lo:hi], iters[lo:hi], tm[lo:hi])

@@ -36,7 +36,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from eosfill.equilibrium.solvers import flash_TP, lnphi_root
+from eosfill.equilibrium.solvers import lnphi_root
 from eosfill.errors import CONVERGED, NOT_CONVERGED
 
 #: tm* below this is instability (dimensionless, per mole of trial phase)
@@ -235,7 +235,19 @@ def flash_multiphase_TP(T, P, z, p, max_phases=3):
     n = T.size
     nc = p.Tc.shape[0]
     z = np.broadcast_to(np.asarray(z, dtype=float), (n, nc))
-    fl = flash_TP(T, P, z, p, raise_on_fail=False)
+    # the compiled two-phase flash and the multi-trial test (M1) of its
+    # result's more abundant phase (any phase of a converged split would
+    # do), the phases as extra trials, in one pass
+    from eosfill.equilibrium.flash import _flash_result, _flash_rows
+
+    zc = np.array(z, dtype=np.float64, order="C")
+    out = dict(beta=np.ones(n), x=np.empty((n, nc)), y=np.empty((n, nc)), lnK=np.zeros((n, nc)),
+               two=np.zeros(n, dtype=np.bool_), status=np.zeros(n, dtype=np.int64), resid=np.zeros(n),
+               iters=np.zeros(n, dtype=np.int64))
+    tm_all = np.empty(n)
+    _flash_rows(T, P, zc, p, 1e-11, 400, True, None, *out.values(), tm=tm_all)
+    fl = _flash_result(out["beta"], out["x"], out["y"], out["two"], out["status"], out["resid"], out["lnK"],
+                       out["iters"], T, P, False)
     nph = np.where(fl["two_phase"], 2, 1)
     beta = np.zeros((n, max_phases))
     X = np.repeat(z[:, None, :], max_phases, axis=1).copy()
@@ -247,9 +259,6 @@ def flash_multiphase_TP(T, P, z, p, max_phases=3):
     status = np.where(status == 0, CONVERGED, NOT_CONVERGED).astype(np.int8)
     iters = np.asarray(fl.get("iterations", np.zeros(n)), dtype=np.int64).copy()
     resid = np.asarray(fl["residual"], dtype=float).copy()
-    # test each result: the more abundant phase (any phase of a converged split would do)
-    ref = np.where((nph == 2)[:, None] & (beta[:, 1:2] > beta[:, 0:1]), X[:, 1], X[:, 0])
-    tm_all, _ = stability_multi_batch(T, P, ref, p, extra=X[:, :2], detect_only=True)
     for i in np.flatnonzero((tm_all < TM_TOL) | (status != CONVERGED)):
         start = (X[i, :2], beta[i, :2]) if nph[i] == 2 else None
         r = flash_multiphase_one(T[i], P[i], z[i], p, max_phases=max_phases, start=start)
