@@ -212,11 +212,15 @@ def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, t
         for a, v in zip((bs, xs, ys, ks, twos, sts, rs, its), (gb, gx, gy, gk, gt, gs, gr, gi)):
             a[g] = v
         if tm is not None:
-            from eosfill.equilibrium.multiphase import stability_multi_batch
+            # the multi-trial test (M1) of these results, as in flash_tested_serial
+            from eosfill.equilibrium import stability_kernels as sk
 
-            ref = np.where((gt & (gb < 0.5))[:, None], gx, gy)
-            tm[g] = stability_multi_batch(Ts[g], Ps[g], ref, p, extra=np.stack([gy, gx], axis=1),
-                                          detect_only=True)[0]
+            ref = np.ascontiguousarray(np.where((gt & (gb < 0.5))[:, None], gx, gy))
+            tg = np.empty(g.size)
+            extra = np.ascontiguousarray(np.stack([gy, gx], axis=1))
+            sk.stability_multi_serial(Ts[g], Ps[g], ref, m, Pc, omega, extra, 1e-10, 400, True, tg,
+                                      np.empty_like(ref))
+            tm[g] = tg
     if rows is not None:
         for a, v in zip((beta, x, y, lnK, two, status, resid, iters), (bs, xs, ys, ks, twos, sts, rs, its)):
             a[rows] = v
