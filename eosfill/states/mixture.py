@@ -106,7 +106,7 @@ def _mixture_fixed_P(fluid, P, key, target):
     # the compiled two-phase search from the single-phase T, verified below
     Tc_, ok = _compiled_fixed_P(fluid, P[idx], key, target[idx], scale, T[idx], Tlo, Thi)
     T0 = T.copy()
-    T[idx] = Tc_
+    T[idx] = np.where(ok, Tc_, T[idx])   # rows not settled keep their start for the fallback
     st = _mixture_from_flash(fluid, T, P)
     miss = idx[~(ok & _meets_spec(st, idx, key, target[idx]))]
     if miss.size == 0:
@@ -308,12 +308,17 @@ def _mixture_fixed_v(fluid, v, key, target):
     T0, P0 = T.copy(), P.copy()
     Pn = P.copy()
     Tc_, Pc_, ok = _compiled_fixed_v(fluid, v[idx], key, target[idx], scale, T[idx], P[idx])
-    T[idx], Pn[idx] = Tc_, Pc_
-    st = _mixture_from_flash(fluid, T, Pn)
-    good = ok & _meets_spec(st, idx, key, target[idx]) & _meets_spec(st, idx, "v", v[idx])
-    miss = idx[~good]
-    if miss.size == 0:
-        return st
+    ok &= (Tc_ >= Tlo) & (Tc_ <= Thi) & (Pc_ > 0)
+    sub = idx[ok]   # verified by the multiphase flash of these rows alone
+    miss = idx[~ok]
+    if sub.size:
+        T[sub], Pn[sub] = Tc_[ok], Pc_[ok]
+        stv = _mixture_from_flash(fluid, T[sub], Pn[sub])
+        rows = np.arange(sub.size)
+        good = _meets_spec(stv, rows, key, target[sub]) & _meets_spec(stv, rows, "v", v[sub])
+        miss = np.concatenate([miss, sub[~good]])
+        if miss.size == 0 and sub.size == n:
+            return stv
     for i in miss:  # the Python search for the rows the compiled search did not settle
         T[i], Pn[i] = _mixture_fixed_v_two_phase(fluid, float(v[i]), key, float(target[i]),
                                                   float(T0[i]), float(P0[i]), scale)
