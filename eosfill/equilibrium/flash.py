@@ -19,6 +19,10 @@ Method
   over the vapour mole numbers with its analytic gradient
   ∂(G/RT)/∂n_i^V = ln f_i^V - ln f_i^L (Michelsen & Mollerup 2007, ch. 10),
 
+The loops run compiled, one state at a time
+(:mod:`eosfill.equilibrium.flash_kernels`); the Gibbs-energy minimisation
+(scipy L-BFGS-B) runs here for the few states that need it.
+
 Every iteration has a bound; a batch reports a status per element, a
 scalar call raises :class:`~eosfill.errors.ConvergenceError` with the last
 iterate.
@@ -29,7 +33,8 @@ import numpy as np
 
 from eosfill.errors import ConvergenceError
 from eosfill.equilibrium.kvalues import CONVERGED, MAXITER, rachford_rice, lnphi_root
-from eosfill.equilibrium.stability import stability_test
+
+_PARALLEL_MIN = 8    # below this many states a batch runs serially (thread start-up costs more)
 
 
 # --------------------------------------------------------------------------
@@ -111,45 +116,16 @@ def _flash_residual(T, P, z, lnK, p):
     return np.where(z > 0, lnK - new[0], 0.0)
 
 
-def _flash_newton(T, P, z, lnK, p, tol, maxiter=30):
-    """Newton on r(ln K) = 0 with a forward-difference Jacobian (nc + 1
-    fugacity evaluations a step), halving the step while |r| does not fall.
-    Returns the best ln K found."""
-    lnK = np.array(lnK, dtype=float)
-    r = _flash_residual(T, P, z, lnK, p)
-    nc = lnK.size
-    for _ in range(maxiter):
-        if np.max(np.abs(r)) < tol:
-            break
-        J = np.empty((nc, nc))
-        for j in range(nc):
-            h = 1e-7 * max(1.0, abs(lnK[j]))
-            d = lnK.copy()
-            d[j] += h
-            J[:, j] = (_flash_residual(T, P, z, d, p) - r) / h
-        try:
-            step = np.linalg.solve(J, -r)
-        except np.linalg.LinAlgError:
-            break
-        lam = 1.0
-        for _ in range(12):
-            new = lnK + lam * step
-            rn = _flash_residual(T, P, z, new, p)
-            if np.all(np.isfinite(rn)) and np.max(np.abs(rn)) < np.max(np.abs(r)):
-                lnK, r = new, rn
-                break
-            lam *= 0.5
-        else:
-            break
-    return lnK
-
-
 def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=None,
              second_order=True):
     """Isothermal two-phase flash of mixtures at (T, P), vectorised over states.
 
     Stability test first (Michelsen 1982); unstable feeds are flashed by
-    accelerated successive substitution with a Gibbs-minimisation fallback.
+    accelerated successive substitution, Newton on ln K, and the
+    Gibbs-energy minimisation where Newton falls short.  Every state runs
+    the compiled one-state flash :func:`eosfill.equilibrium.flash_kernels.flash_TP_one`
+    (serial, or in parallel for batches); the minimisation (scipy) runs in
+    Python for the few states that need it, which then resume in the kernel.
 
     Parameters
     ----------
@@ -165,136 +141,98 @@ def flash_TP(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=N
     successive-substitution steps taken (0 for stable feeds).
 
     ``lnK_start`` (n, nc): K-values of a nearby two-phase solution; the
-    stability test is then skipped for a first try and run only where the
-    warm-started flash does not end with two phases.
+    stability test is then skipped for a first try
+    (:func:`eosfill.equilibrium.flash_kernels.flash_warm_one`) and the full
+    flash runs only for the states where the warm-started flash does not
+    end with two phases.
     """
-    if lnK_start is not None:
-        res = _flash_warm(T, P, z, p, lnK_start, tol, maxiter)
-        if res is not None:
-            return res
-    T = np.atleast_1d(np.asarray(T, dtype=float))
-    P = np.atleast_1d(np.asarray(P, dtype=float))
+    from eosfill.equilibrium import flash_kernels as fk
+
+    T = np.array(np.ravel(T), dtype=np.float64)
+    P = np.array(np.ravel(P), dtype=np.float64)
     n = T.shape[0]
-    z = np.broadcast_to(np.asarray(z, dtype=float), (n, p.Tc.shape[0])).copy()
+    nc = p.Tc.shape[0]
+    z = np.array(np.broadcast_to(np.asarray(z, dtype=float), (n, nc)), dtype=np.float64, order="C")
+    m = p.kernel_model
     beta = np.ones(n)
-    x = z.copy()
-    y = z.copy()
-    two = np.zeros(n, dtype=bool)
-    status = np.zeros(n, dtype=np.int8)
+    x = np.empty((n, nc))
+    y = np.empty((n, nc))
+    lnK = np.zeros((n, nc))
+    two = np.zeros(n, dtype=np.bool_)
+    status = np.zeros(n, dtype=np.int64)
     resid = np.zeros(n)
-    unstable, lnK0, _ = stability_test(T, P, z, p, maxiter=300 if second_order else 60)
-    idx = np.flatnonzero(unstable)
-    lnK_out = np.zeros_like(z)
-    if idx.size == 0:
-        return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out,
-                    iterations=np.zeros(n, dtype=np.int64))
-    Ti, Pi, zi = T[idx], P[idx], z[idx]
-    lnK = lnK0[idx]
-    active = np.ones(idx.size, dtype=bool)
-    hist = []
-    n_iter = np.zeros(idx.size, dtype=np.int64)
-    st = np.full(idx.size, MAXITER, dtype=np.int8)
-    b_i = np.full(idx.size, 0.5)
-    for it in range(maxiter):
-        b_i, braw, xi, yi, new = _phases_from_K(zi, lnK, p, Ti, Pi)
-        n_iter += active
-        delta = np.where(zi > 0, new - lnK, 0.0)
-        hist.append(delta)
-        err = np.max(np.abs(delta), axis=-1)
-        conv = err < tol
-        st = np.where(conv & active, CONVERGED, st)
-        active &= ~conv
-        lnK = np.where(active[:, None], new, lnK)
-        # DEM acceleration every fifth step (Michelsen 1982b Eq. 27)
-        if it % 5 == 4 and len(hist) >= 2:
-            d1_, d0_ = hist[-1], hist[-2]
-            lam = (d1_ * d0_).sum(-1) / np.maximum((d0_ * d0_).sum(-1), 1e-300)
-            ok = active & (lam > 0.0) & (lam < 0.99)
-            lam = np.where(ok, lam, 0.0)
-            lnK = np.where(ok[:, None], lnK + d1_ * (lam / (1.0 - lam))[:, None], lnK)
-        if not active.any():
-            break
-        # trivial solution (K → 1) or collapse to one phase: stop
-        triv = active & (np.max(np.abs(lnK), axis=-1) < 1e-6)
-        active &= ~triv
-        st = np.where(triv, CONVERGED, st)
-        if it == 25 and active.any() and second_order:
-            # successive substitution is slow here (near-critical): go second
-            # order - Newton on ln K; the Gibbs-energy minimisation where Newton
-            # does not reach the tolerance
-            for k in np.flatnonzero(active):
-                lnK[k] = _flash_newton(Ti[k], Pi[k], zi[k], lnK[k], p, tol)
-                if np.max(np.abs(_flash_residual(Ti[k], Pi[k], zi[k], lnK[k], p))) > 1e-9:
-                    lnK[k] = _flash_gibbs_min(Ti[k], Pi[k], zi[k], lnK[k], p)
-    # near a critical point successive substitution (and the quasi-Newton
-    # fallback) can stall short of the tolerance: finish with Newton steps
-    # on ln K (second order; Michelsen & Mollerup 2007, ch. 10)
-    for k in np.flatnonzero(st != CONVERGED):
-        lnK[k] = _flash_newton(Ti[k], Pi[k], zi[k], lnK[k], p, tol)
-    # final compositions and residuals
-    b_i, braw, xi, yi, new = _phases_from_K(zi, lnK, p, Ti, Pi, clip=0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        r = np.where(zi > 0, np.log(yi) - np.log(xi) - new, 0.0)  # ln f^V - ln f^L
-    res = np.max(np.abs(r), axis=-1)
-    trivial = np.max(np.abs(lnK), axis=-1) < 1e-6
-    single = trivial | (b_i <= 0.0) | (b_i >= 1.0)
-    ok = (res < 1e-8) | single
-    st = np.where(ok, CONVERGED, MAXITER)
-    is2 = ~single
-    beta[idx] = np.where(is2, b_i, np.where(b_i >= 1.0, 1.0, 0.0))
-    # a single-phase outcome after an unstable test is unusual: keep feed
-    x[idx] = np.where(is2[:, None], xi, zi)
-    y[idx] = np.where(is2[:, None], yi, zi)
-    two[idx] = is2
-    status[idx] = st
-    resid[idx] = np.where(is2, res, 0.0)
-    lnK_out[idx] = np.where(is2[:, None], lnK, 0.0)
+    iters = np.zeros(n, dtype=np.int64)
+    todo = None
+    if lnK_start is not None:
+        lnK[:] = np.broadcast_to(np.asarray(lnK_start, dtype=float), (n, nc))
+        ok = np.zeros(n, dtype=np.bool_)
+        loop = fk.flash_warm_parallel if n >= _PARALLEL_MIN else fk.flash_warm_serial
+        loop(T, P, z, m, lnK, float(tol), int(maxiter), ok, beta, x, y, resid, iters)
+        two[:] = ok
+        todo = np.flatnonzero(~ok)
+        if todo.size == 0:
+            return _flash_result(beta, x, y, two, status, resid, lnK, iters, T, P, raise_on_fail)
+    _flash_rows(T, P, z, p, tol, maxiter, second_order, todo, beta, x, y, lnK, two, status, resid, iters)
+    return _flash_result(beta, x, y, two, status, resid, lnK, iters, T, P, raise_on_fail)
+
+
+def _flash_rows(T, P, z, p, tol, maxiter, second_order, rows, beta, x, y, lnK, two, status, resid, iters,
+                tm=None):
+    """The full compiled flash for ``rows`` (None: all) into the output arrays;
+    the Gibbs-energy minimisation for the rows the kernel hands back.
+    ``tm`` (n,) given: also the multi-trial stability test of each result
+    (:func:`eosfill.equilibrium.flash_kernels.flash_tested_serial`), its
+    lowest tm* into ``tm``."""
+    from eosfill.equilibrium import flash_kernels as fk
+
+    m = p.kernel_model
+    Pc = np.array(p.Pc, dtype=np.float64)
+    omega = np.array(p.omega, dtype=np.float64)
+    if rows is None:
+        sub = (T, P, z, beta, x, y, lnK, two, status, resid, iters)
+    else:
+        sub = tuple(a[rows] for a in (T, P, z, beta, x, y, lnK, two, status, resid, iters))
+    Ts, Ps, zs, bs, xs, ys, ks, twos, sts, rs, its = sub
+    par = Ts.shape[0] >= _PARALLEL_MIN
+    if tm is None:
+        loop = fk.flash_TP_parallel if par else fk.flash_TP_serial
+        loop(Ts, Ps, zs, m, Pc, omega, float(tol), int(maxiter), bool(second_order), bs, xs, ys, ks, twos, sts, rs,
+             its)
+    else:
+        loop = fk.flash_tested_parallel if par else fk.flash_tested_serial
+        loop(Ts, Ps, zs, m, Pc, omega, float(tol), int(maxiter), bs, xs, ys, ks, twos, sts, rs, its, tm)
+    g = np.flatnonzero(sts == fk.NEED_GIBBS)
+    if g.size:
+        # Newton at step 25 fell short: the Gibbs-energy minimisation, then
+        # the substitution resumes from its result (compiled)
+        for k in g:
+            ks[k] = _flash_gibbs_min(float(Ts[k]), float(Ps[k]), zs[k], ks[k], p)
+        gb, gx, gy, gk, gt, gs, gr, gi = (a[g] for a in (bs, xs, ys, ks, twos, sts, rs, its))
+        fk.flash_resume_serial(Ts[g], Ps[g], zs[g], m, float(tol), int(maxiter), gb, gx, gy, gk, gt, gs, gr, gi)
+        for a, v in zip((bs, xs, ys, ks, twos, sts, rs, its), (gb, gx, gy, gk, gt, gs, gr, gi)):
+            a[g] = v
+        if tm is not None:
+            # the multi-trial test (M1) of these results, as in flash_tested_serial
+            from eosfill.equilibrium import stability_kernels as sk
+
+            ref = np.ascontiguousarray(np.where((gt & (gb < 0.5))[:, None], gx, gy))
+            tg = np.empty(g.size)
+            extra = np.ascontiguousarray(np.stack([gy, gx], axis=1))
+            sk.stability_multi_serial(Ts[g], Ps[g], ref, m, Pc, omega, extra, 1e-10, 400, True, tg,
+                                      np.empty_like(ref))
+            tm[g] = tg
+    if rows is not None:
+        for a, v in zip((beta, x, y, lnK, two, status, resid, iters), (bs, xs, ys, ks, twos, sts, rs, its)):
+            a[rows] = v
+
+
+def _flash_result(beta, x, y, two, status, resid, lnK, iters, T, P, raise_on_fail):
+    """The flash's result dict; raises for the first failed state if asked."""
+    status = np.where(status == CONVERGED, CONVERGED, MAXITER).astype(np.int8)
     if raise_on_fail and np.any(status != CONVERGED):
         k = np.flatnonzero(status != CONVERGED)[0]
         raise ConvergenceError("flash_TP", "equal fugacity not reached",
                                dict(T=float(T[k]), P=float(P[k]), beta=float(beta[k]),
                                     x=x[k].tolist(), y=y[k].tolist()), float(resid[k]))
-    iterations = np.zeros(n, dtype=np.int64)
-    iterations[idx] = n_iter
-    return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK_out,
-                iterations=iterations)
-
-
-def _flash_warm(T, P, z, p, lnK, tol, maxiter):
-    """Successive substitution from given ln K (no stability test).
-
-    Returns the flash result if every state ends two-phase with equal
-    fugacities, else None (the caller then runs the full flash)."""
-    T = np.atleast_1d(np.asarray(T, dtype=float))
-    P = np.atleast_1d(np.asarray(P, dtype=float))
-    n = T.shape[0]
-    z = np.broadcast_to(np.asarray(z, dtype=float), (n, p.Tc.shape[0]))
-    lnK = np.array(np.broadcast_to(lnK, z.shape), dtype=float)
-    hist = []
-    for it in range(min(maxiter, 60)):
-        b, braw, x, y, new = _phases_from_K(z, lnK, p, T, P, clip=0.0)
-        if np.any((braw <= 0.0) | (braw >= 1.0)):
-            return None
-        delta = np.where(z > 0, new - lnK, 0.0)
-        lnK = new
-        hist.append(delta)
-        if np.max(np.abs(delta)) < tol:
-            K = np.exp(lnK)
-            b, braw = rachford_rice(z, K)
-            if np.any((braw <= 0.0) | (braw >= 1.0)) or np.max(np.abs(lnK)) < 1e-6:
-                return None
-            bb = braw[:, None]
-            x = z / (1.0 + bb * (K - 1.0))
-            y = K * x
-            x = x / x.sum(-1, keepdims=True)
-            y = y / y.sum(-1, keepdims=True)
-            return dict(beta=braw, x=x, y=y, two_phase=np.ones(n, dtype=bool),
-                        status=np.zeros(n, dtype=np.int8), residual=np.max(np.abs(delta), axis=-1),
-                        lnK=lnK, iterations=np.full(n, it + 1, dtype=np.int64))
-        if it % 5 == 4 and len(hist) >= 2:
-            d1_, d0_ = hist[-1], hist[-2]
-            lam = (d1_ * d0_).sum(-1) / np.maximum((d0_ * d0_).sum(-1), 1e-300)
-            ok = (lam > 0.0) & (lam < 0.99)
-            with np.errstate(invalid="ignore", over="ignore"):
-                lnK = np.where(ok[:, None], lnK + d1_ * (np.where(ok, lam, 0.0) / (1.0 - np.where(ok, lam, 0.0)))[:, None], lnK)
-    return None
+    return dict(beta=beta, x=x, y=y, two_phase=two, status=status, residual=resid, lnK=lnK,
+                iterations=iters)

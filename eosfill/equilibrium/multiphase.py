@@ -36,12 +36,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from eosfill.equilibrium.solvers import flash_TP, lnphi_root, wilson_lnK
+from eosfill.equilibrium.solvers import lnphi_root
 from eosfill.errors import CONVERGED, NOT_CONVERGED
 
 #: tm* below this is instability (dimensionless, per mole of trial phase)
 TM_TOL = -1e-9
-_TRIVIAL = 1e-6      # max |w - x| at which a trial has collapsed onto a present phase
 _RESID_TOL = 1e-9    # equal-fugacity and material-balance tolerance of a converged split
 
 
@@ -59,62 +58,28 @@ def stability_multi(T, P, x, p, extra_trials=None, tol=1e-10, maxiter=400):
 
 
 def stability_multi_batch(T, P, X, p, extra=None, tol=1e-10, maxiter=400, detect_only=False):
-    """(M1) for n compositions X (n, nc) at (T, P) (n,), all trials of all rows
-    iterated together.  Trials per row: Wilson vapour- and liquid-like, one
-    near-pure trial per component (mole fraction 0.999, the rest shared), and
-    ``extra`` (n, m, nc) if given.  Returns tm_min (n,) and its stationary
-    point (n, nc).  ``detect_only``: a row stops as soon as one trial shows
-    tm* < -1e-6 on its way (enough to know it is unstable; the point is then
-    not a converged stationary point)."""
+    """(M1) for n compositions X (n, nc) at (T, P) (n,), every row by the
+    compiled one-state test :func:`eosfill.equilibrium.stability_kernels.stability_multi_one`
+    (trials and stopping tests described there).  Trials per row: Wilson
+    vapour- and liquid-like, one near-pure trial per component (mole
+    fraction 0.999, the rest shared), and ``extra`` (n, m, nc) if given.
+    Returns tm_min (n,) and its stationary point (n, nc).  ``detect_only``:
+    a row stops as soon as one trial shows tm* < -1e-6 on its way (enough to
+    know it is unstable; the point is then not a converged stationary point)."""
+    from eosfill.equilibrium import stability_kernels as sk
+
+    T = np.array(np.ravel(T), dtype=np.float64)
+    P = np.array(np.ravel(P), dtype=np.float64)
+    X = np.array(X, dtype=np.float64, order="C")
     n, nc = X.shape
-    pos = X > 0
-    lnphi_x, _ = lnphi_root(T, P, X, p)
-    with np.errstate(divide="ignore"):
-        d = np.where(pos, np.log(np.where(pos, X, 1.0)) + lnphi_x, -np.inf)
-    lnK = wilson_lnK(T, P, p.Tc, p.Pc, p.omega)
-    trials = [X * np.exp(lnK), X * np.exp(-lnK)]
-    npos = np.maximum(pos.sum(axis=-1, keepdims=True) - 1, 1)
-    for i in range(nc):
-        w = np.where(pos, 1e-3 / npos, 0.0)
-        w[:, i] = np.where(pos[:, i], 1.0 - 1e-3, 0.0)
-        trials.append(np.where(pos.sum(-1, keepdims=True) > 1, w, X))
-    if extra is not None:
-        trials.extend(list(np.moveaxis(np.asarray(extra, dtype=float), 1, 0)))
-    m = len(trials)
-    W = np.stack(trials, axis=1)                       # (n, m, nc)
-    W = np.where(pos[:, None, :], W, 0.0)
-    W = W / W.sum(axis=-1, keepdims=True)
-    W = W.reshape(n * m, nc)
-    posr = np.repeat(pos, m, axis=0)
-    dr = np.repeat(d, m, axis=0)
-    Xr = np.repeat(X, m, axis=0)
-    TT, PP = np.repeat(T, m), np.repeat(P, m)
-    lnW = np.where(posr, np.log(np.where(W > 0, W, 1e-300)), -np.inf)
-    active = np.ones(n * m, dtype=bool)
-    for _ in range(maxiter):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        Wt = np.exp(lnW[idx])
-        w = Wt / Wt.sum(axis=-1, keepdims=True)
-        lp, _ = lnphi_root(TT[idx], PP[idx], w, p)
-        new = np.where(posr[idx], dr[idx] - lp, -np.inf)
-        with np.errstate(invalid="ignore"):
-            diff = np.max(np.abs(np.where(posr[idx], new - lnW[idx], 0.0)), axis=-1)
-        lnW[idx] = new
-        trivial = np.max(np.abs(w - Xr[idx]), axis=-1) < _TRIVIAL
-        active[idx[(diff < tol) | trivial | ~np.isfinite(diff)]] = False
-        if detect_only:
-            neg = (1.0 - np.exp(new).sum(axis=-1) < -1e-6) & (diff < 1e-3)
-            rows = np.unique(idx[neg] // m)
-            if rows.size:
-                active.reshape(n, m)[rows] = False
-    Wt = np.exp(lnW)
-    w = Wt / Wt.sum(axis=-1, keepdims=True)
-    tm = 1.0 - Wt.sum(axis=-1)
-    tm = np.where((np.max(np.abs(w - Xr), axis=-1) < 1e-4) | ~np.isfinite(tm), 0.0, tm).reshape(n, m)
-    k = np.argmin(tm, axis=1)
-    return tm[np.arange(n), k], w.reshape(n, m, nc)[np.arange(n), k]
+    ex = np.zeros((n, 0, nc)) if extra is None else np.array(np.broadcast_to(extra, (n,) + np.shape(extra)[-2:]),
+                                                              dtype=np.float64, order="C")
+    tm = np.empty(n)
+    w = np.empty((n, nc))
+    loop = sk.stability_multi_parallel if n >= 16 else sk.stability_multi_serial
+    loop(T, P, X, p.kernel_model, np.array(p.Pc, dtype=np.float64), np.array(p.omega, dtype=np.float64),
+         ex, float(tol), int(maxiter), bool(detect_only), tm, w)
+    return tm, w
 
 
 def _solve_beta(z, phi_inv, beta, maxiter=100):
@@ -270,7 +235,19 @@ def flash_multiphase_TP(T, P, z, p, max_phases=3):
     n = T.size
     nc = p.Tc.shape[0]
     z = np.broadcast_to(np.asarray(z, dtype=float), (n, nc))
-    fl = flash_TP(T, P, z, p, raise_on_fail=False)
+    # the compiled two-phase flash and the multi-trial test (M1) of its
+    # result's more abundant phase (any phase of a converged split would
+    # do), the phases as extra trials, in one pass
+    from eosfill.equilibrium.flash import _flash_result, _flash_rows
+
+    zc = np.array(z, dtype=np.float64, order="C")
+    out = dict(beta=np.ones(n), x=np.empty((n, nc)), y=np.empty((n, nc)), lnK=np.zeros((n, nc)),
+               two=np.zeros(n, dtype=np.bool_), status=np.zeros(n, dtype=np.int64), resid=np.zeros(n),
+               iters=np.zeros(n, dtype=np.int64))
+    tm_all = np.empty(n)
+    _flash_rows(T, P, zc, p, 1e-11, 400, True, None, *out.values(), tm=tm_all)
+    fl = _flash_result(out["beta"], out["x"], out["y"], out["two"], out["status"], out["resid"], out["lnK"],
+                       out["iters"], T, P, False)
     nph = np.where(fl["two_phase"], 2, 1)
     beta = np.zeros((n, max_phases))
     X = np.repeat(z[:, None, :], max_phases, axis=1).copy()
@@ -282,9 +259,6 @@ def flash_multiphase_TP(T, P, z, p, max_phases=3):
     status = np.where(status == 0, CONVERGED, NOT_CONVERGED).astype(np.int8)
     iters = np.asarray(fl.get("iterations", np.zeros(n)), dtype=np.int64).copy()
     resid = np.asarray(fl["residual"], dtype=float).copy()
-    # test each result: the more abundant phase (any phase of a converged split would do)
-    ref = np.where((nph == 2)[:, None] & (beta[:, 1:2] > beta[:, 0:1]), X[:, 1], X[:, 0])
-    tm_all, _ = stability_multi_batch(T, P, ref, p, extra=X[:, :2], detect_only=True)
     for i in np.flatnonzero((tm_all < TM_TOL) | (status != CONVERGED)):
         start = (X[i, :2], beta[i, :2]) if nph[i] == 2 else None
         r = flash_multiphase_one(T[i], P[i], z[i], p, max_phases=max_phases, start=start)

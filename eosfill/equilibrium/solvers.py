@@ -32,9 +32,7 @@ from eosfill.equilibrium.saturation import (
 from eosfill.equilibrium.stability import stability_test
 from eosfill.equilibrium.flash import (
     _flash_gibbs_min,
-    _flash_newton,
     _flash_residual,
-    _flash_warm,
     _phases_from_K,
     flash_TP,
 )
@@ -60,9 +58,7 @@ __all__ = [
     "saturation_pressure",
     "saturation_temperature",
     "_flash_gibbs_min",
-    "_flash_newton",
     "_flash_residual",
-    "_flash_warm",
     "_phases_from_K",
     "flash_TP",
     "_boundary_by_flash",

@@ -96,16 +96,68 @@ def _mixture_fixed_P(fluid, P, key, target):
         i = np.flatnonzero(bad)[0]
         raise InputError(key, float(target[i]), f"a value the model reaches at P = {P[i]:.6g} Pa "
                          f"between T = {Tlo:.4g} and {Thi:.4g} K")
-    T, fx, ok = illinois(f1, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
-    _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), fx)
+    # single phase first (compiled Illinois in [Tlo, Thi])
+    T, ok = _compiled_fixed_P(fluid, P, key, target, scale, lo, Tlo, Thi, single=True, tol=(1e-13, 1e-13))
+    _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), f1(T))
     unstable = multiphase.unstable(T, P, fluid.mole_fractions, fluid.params)
     idx = np.flatnonzero(unstable)
-    if idx.size:
-        Tb, done = _mixture_fixed_P_two_phase_batch(fluid, P[idx], key, target[idx], scale)
-        T[idx] = Tb
-        for i in idx[~done]:  # rows the batch could not bracket: one at a time
-            T[i] = _mixture_fixed_P_two_phase(fluid, float(P[i]), key, float(target[i]), float(T[i]), scale)
+    if idx.size == 0:
+        return _mixture_from_flash(fluid, T, P)
+    # the compiled two-phase search from the single-phase T, verified below
+    Tc_, ok = _compiled_fixed_P(fluid, P[idx], key, target[idx], scale, T[idx], Tlo, Thi)
+    T0 = T.copy()
+    T[idx] = np.where(ok, Tc_, T[idx])   # rows not settled keep their start for the fallback
+    st = _mixture_from_flash(fluid, T, P)
+    miss = idx[~(ok & _meets_spec(st, idx, key, target[idx]))]
+    if miss.size == 0:
+        return st
+    # the Python searches for the rows the compiled search did not settle
+    T[miss] = T0[miss]
+    Tb, done = _mixture_fixed_P_two_phase_batch(fluid, P[miss], key, target[miss], scale)
+    T[miss] = Tb
+    for i in miss[~done]:  # rows the batch could not bracket: one at a time
+        T[i] = _mixture_fixed_P_two_phase(fluid, float(P[i]), key, float(target[i]), float(T0[i]), scale)
     return _mixture_from_flash(fluid, T, P)
+
+
+def _kernel_args(fluid):
+    p = fluid.params
+    return (np.ascontiguousarray(fluid.mole_fractions, dtype=np.float64), p.kernel_model, fluid.kernel_ideal_gas,
+            np.array(p.Pc, dtype=np.float64), np.array(p.omega, dtype=np.float64))
+
+
+def _compiled_fixed_P(fluid, P, key, target, scale, T0, Tlo, Thi, single=False, tol=(1e-12, 1e-12)):
+    """T at fixed P, two phases (``single``: the feed as one phase), by
+    :func:`eosfill.equilibrium.two_phase_search.fixed_P_one` (one state) or
+    its parallel batch.  Returns T and a converged flag per row."""
+    from eosfill.equilibrium import two_phase_search as ts
+
+    z, m, ig, Pc, omega = _kernel_args(fluid)
+    kc = ts.KEY_CODES[key]
+    n = P.size
+    if n == 1:
+        T, status, _ = ts.fixed_P_one(float(P[0]), kc, float(target[0]), float(scale), float(T0[0]), float(Tlo),
+                                      float(Thi), z, m, ig, Pc, omega, tol[0], tol[1], 200, single)
+        return np.array([T]), np.array([status == 0])
+    T = np.empty(n)
+    status = np.empty(n, dtype=np.int64)
+    ts.fixed_P_batch(np.array(P, dtype=np.float64), kc, np.array(target, dtype=np.float64), float(scale),
+                     np.array(T0, dtype=np.float64), float(Tlo), float(Thi), z, m, ig, Pc, omega, tol[0], tol[1], 200,
+                     single, T, status)
+    return T, status == 0
+
+
+def _meets_spec(st, idx, key, target, rtol=1e-9):
+    """Rows idx of the state meet ψ = target (u, h: to rtol of max(|target|,
+    R T); s: of max(|target|, R); v: relative) with a converged phase split."""
+    val = np.asarray(getattr(st, "_" + key))[idx]
+    T = np.asarray(st._T)[idx]
+    floor = {"u": R * T, "h": R * T, "s": R, "v": 0.0}[key]
+    good = np.abs(val - target) <= rtol * np.maximum(np.abs(target), floor)
+    status = getattr(st, "solver_status", None)
+    if status is not None:
+        good &= np.asarray(status).reshape(-1)[idx] == 0
+    return good & np.isfinite(val)
 
 
 def _flash_props(fluid, T, P, quick=False):
@@ -249,12 +301,50 @@ def _mixture_fixed_v(fluid, v, key, target):
         idx = np.flatnonzero(check)
         us = _unstable_at_Tv(fluid, T[idx], P[idx], v_eos[idx] if np.ndim(v_eos) else v_eos, z[idx])
         unstable[idx[us]] = True
+    idx = np.flatnonzero(unstable)
+    if idx.size == 0:
+        return _mixture_from_flash(fluid, T, P)
+    # the compiled two-phase search from the single-phase T, verified below
+    T0, P0 = T.copy(), P.copy()
     Pn = P.copy()
-    for i in np.flatnonzero(unstable):
+    Tc_, Pc_, ok = _compiled_fixed_v(fluid, v[idx], key, target[idx], scale, T[idx], P[idx])
+    ok &= (Tc_ >= Tlo) & (Tc_ <= Thi) & (Pc_ > 0)
+    sub = idx[ok]   # verified by the multiphase flash of these rows alone
+    miss = idx[~ok]
+    if sub.size:
+        T[sub], Pn[sub] = Tc_[ok], Pc_[ok]
+        stv = _mixture_from_flash(fluid, T[sub], Pn[sub])
+        rows = np.arange(sub.size)
+        good = _meets_spec(stv, rows, key, target[sub]) & _meets_spec(stv, rows, "v", v[sub])
+        miss = np.concatenate([miss, sub[~good]])
+        if miss.size == 0 and sub.size == n:
+            return stv
+    for i in miss:  # the Python search for the rows the compiled search did not settle
         T[i], Pn[i] = _mixture_fixed_v_two_phase(fluid, float(v[i]), key, float(target[i]),
-                                                  float(T[i]), float(P[i]), scale)
-    st = _mixture_from_flash(fluid, T, Pn)
-    return st
+                                                  float(T0[i]), float(P0[i]), scale)
+    return _mixture_from_flash(fluid, T, Pn)
+
+
+def _compiled_fixed_v(fluid, v, key, target, scale, T0, P0):
+    """(T, P) at fixed v, two phases, by :func:`eosfill.equilibrium.two_phase_search.fixed_v_one`
+    (one state) or its parallel batch.  Returns T, P and a converged flag per row."""
+    from eosfill.equilibrium import two_phase_search as ts
+
+    z, m, ig, Pc, omega = _kernel_args(fluid)
+    kc = ts.KEY_CODES[key]
+    P0 = np.where((P0 > 1e2) & (P0 < 1e9), P0, 1e6)
+    n = v.size
+    if n == 1:
+        T, P, status = ts.fixed_v_one(float(v[0]), kc, float(target[0]), float(scale), float(T0[0]), float(P0[0]),
+                                      z, m, ig, Pc, omega, 1e-11, 40)
+        return np.array([T]), np.array([P]), np.array([status == 0])
+    T = np.empty(n)
+    P = np.empty(n)
+    status = np.empty(n, dtype=np.int64)
+    ts.fixed_v_batch(np.array(v, dtype=np.float64), kc, np.array(target, dtype=np.float64), float(scale),
+                     np.array(T0, dtype=np.float64), np.array(P0, dtype=np.float64), z, m, ig, Pc, omega, 1e-11, 40,
+                     T, P, status)
+    return T, P, status == 0
 
 
 def _mixture_TV(fluid, T, v):
