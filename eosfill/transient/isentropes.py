@@ -265,7 +265,23 @@ class EquilibriumIsentropes:
             out.append(lev)
         return out[0], out[1], w
 
-    def _G(self, lnP, lnP0, pair):
+    @staticmethod
+    def _shifts(pair):
+        """δ of the two levels (the shift that makes their boundary crossings meet; 0, 0
+        unless both cross)."""
+        a, b, w = pair
+        if a.kink is not None and b.kink is not None:
+            k0 = (1.0 - w) * a.kink + w * b.kink
+            return a.kink - k0, b.kink - k0
+        return 0.0, 0.0
+
+    def _h0(self, lnP0, pair):
+        """h of the two levels at the inlet (shifted), fixed for one throat search."""
+        a, b, _ = pair
+        da, db = self._shifts(pair)
+        return a.props(lnP0 + da)[0], b.props(lnP0 + db)[0]
+
+    def _G(self, lnP, lnP0, pair, h0=None):
         """G, v, T at ln P on the isentrope s0 (blend of the two levels around s0).
 
         Where both levels cross the phase boundary, each is read at a pressure scaled
@@ -275,12 +291,10 @@ class EquilibriumIsentropes:
         same scaling, Δh = Σ w e^(−δ) [h(x0 + δ) − h(x + δ)], which is exactly the
         integral of the blended P v d ln P, so (∂h/∂P)_s = v holds on the blend."""
         a, b, w = pair
-        da = db = 0.0
-        if a.kink is not None and b.kink is not None:
-            k0 = (1.0 - w) * a.kink + w * b.kink
-            da, db = a.kink - k0, b.kink - k0
-        ha0, _, _ = a.props(lnP0 + da)
-        hb0, _, _ = b.props(lnP0 + db)
+        da, db = self._shifts(pair)
+        if h0 is None:
+            h0 = self._h0(lnP0, pair)
+        ha0, hb0 = h0
         ha, va, Ta = a.props(lnP + da)
         hb, vb, Tb = b.props(lnP + db)
         dh = (1.0 - w) * math.exp(-da) * (ha0 - ha) + w * math.exp(-db) * (hb0 - hb)
@@ -311,9 +325,10 @@ class EquilibriumIsentropes:
                                    "G still rises at the lowest pressure the model reaches",
                                    dict(P0=P0, s0=s0, P_low=float(math.exp(lo))))
         a, b = x[max(i - 1, 0)], x[min(i + 1, x.size - 1)]
-        r = minimize_scalar(lambda q: -float(self._G(q, lnP0, pair)[0]), bounds=(a, b), method="bounded",
+        h0 = self._h0(lnP0, pair)
+        r = minimize_scalar(lambda q: -float(self._G(q, lnP0, pair, h0)[0]), bounds=(a, b), method="bounded",
                             options=dict(xatol=1e-10))
-        G, v, T = self._G(r.x, lnP0, pair)
+        G, v, T = self._G(r.x, lnP0, pair, h0)
         return Throat(P=float(math.exp(r.x)), G=float(G), T=float(T), v=float(v))
 
     def mass_flux(self, P0, s0, P_back):
