@@ -36,6 +36,7 @@ from eosfill.errors import CONVERGED, NOT_CONVERGED
 from eosfill.model import cubic_kernels as ck
 from eosfill.model.cubic_kernels import KERNEL
 from eosfill.model.idealgas_kernels import mixture_ideal
+from eosfill.model.state import GAS, LIQUID, SUPERCRITICAL
 
 # columns of a (T, v) row
 TV_P, TV_U, TV_H, TV_S, TV_CV, TV_DPDT, TV_DPDV, TV_V, TV_B = range(9)
@@ -44,8 +45,12 @@ TV_NAMES = ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v", "b")
 
 # columns of a (T, P) row
 (TP_Z, TP_V_EOS, TP_V, TP_A, TP_A_T, TP_A_TT, TP_B, TP_ADIM, TP_BDIM, TP_R0, TP_R1, TP_R2, TP_CHOICE,
- TP_H, TP_U, TP_S, TP_H_RES, TP_S_RES, TP_CV, TP_CP, TP_DPDT, TP_DPDV, TP_PI, TP_SHIFT) = range(24)
-TP_NCOL = 24
+ TP_H, TP_U, TP_S, TP_H_RES, TP_S_RES, TP_CV, TP_CP, TP_DPDT, TP_DPDV, TP_PI, TP_SHIFT, TP_KIND) = range(25)
+TP_NCOL = 25
+# TP_KIND: the phase label of :func:`eosfill.model.phase_label.phase_kind` (codes of
+# :mod:`eosfill.model.state`), filled by :func:`phase_label_one` (:func:`props_TP_rows`
+# labels its rows; the label says SUPERCRITICAL only when given the components' Pc)
+_GAS, _LIQUID, _SUPERCRITICAL = GAS, LIQUID, SUPERCRITICAL
 
 # keys of the 1-D solves at fixed v
 KEY_U, KEY_H, KEY_S = 0, 1, 2
@@ -137,6 +142,41 @@ def props_TP_one(T, P, x, m, ig, which, q, dq, d2q, out):
     out[TP_DPDV] = dPdv
     out[TP_PI] = ck.phase_identification_parameter(T, v_eos, a, a_T, b, d1, d2)
     out[TP_SHIFT] = cbar
+
+
+@njit(**KERNEL)
+def phase_label_one(T, P, x, Tc, Pc, out):
+    """The label rule of :func:`eosfill.model.phase_label.phase_kind` on a (T, P) row
+    ``out`` (its roots, B, Z and Π) into ``out[TP_KIND]``; returns the code.
+
+    T_pc, P_pc by Kay's rule (Kay 1936); T ≥ T_pc: SUPERCRITICAL where P ≥ P_pc, else
+    GAS; below T_pc with two or more admissible roots (Z > B): GAS on the largest root,
+    else LIQUID; with one root: Π > 1 LIQUID, else GAS (Venkatarathnam & Oellrich 2011, Eq. 6).
+    """
+    Tpc = 0.0
+    Ppc = 0.0
+    for i in range(x.shape[0]):
+        Tpc += x[i] * Tc[i]
+        Ppc += x[i] * Pc[i]
+    if T >= Tpc:
+        kind = _SUPERCRITICAL if P >= Ppc else _GAS
+    else:
+        B = out[TP_BDIM]
+        n = 0
+        Zmax = -np.inf
+        for k in range(TP_R0, TP_R2 + 1):
+            r = out[k]
+            if np.isfinite(r) and r > B:
+                n += 1
+                Zmax = max(Zmax, r)
+        if n >= 2:
+            Z = P * out[TP_V_EOS] / (R * T)
+            on_largest = abs(Z - Zmax) <= 1e-9 * max(abs(Zmax), 1e-300) + 1e-12
+            kind = _GAS if on_largest else _LIQUID
+        else:
+            kind = _LIQUID if out[TP_PI] > 1.0 else _GAS
+    out[TP_KIND] = kind
+    return kind
 
 
 @njit(**KERNEL)
@@ -272,6 +312,14 @@ def props_TP_serial(T, P, x, which, m, ig, out):
     for k in range(T.shape[0]):
         props_TP_one(T[k], P[k], x[0] if one_x else x[k], m, ig, which[0] if one_w else which[k],
                      q, dq, d2q, out[k])
+
+
+@njit(**KERNEL)
+def phase_label_serial(T, P, x, Tc, Pc, out):
+    """:func:`phase_label_one` on (T, P) rows out[k] (x broadcast from one row)."""
+    one_x = x.shape[0] == 1
+    for k in range(T.shape[0]):
+        phase_label_one(T[k], P[k], x[0] if one_x else x[k], Tc, Pc, out[k])
 
 
 @njit(**KERNEL)
@@ -424,12 +472,16 @@ def props_Tv_rows(m, ig, T, v_eos, x):
     return out.reshape(shape + (TV_NCOL,))
 
 
-def props_TP_rows(m, ig, T, P, x, which="stable"):
-    """(T, P) rows, shape (..., TP_NCOL); ``which`` "stable", "liquid", "vapour" or codes 0/1/2."""
+def props_TP_rows(m, ig, T, P, x, which="stable", Pc=None):
+    """(T, P) rows, shape (..., TP_NCOL); ``which`` "stable", "liquid", "vapour" or codes 0/1/2.
+
+    ``Pc`` (nc,), the components' critical pressures [Pa], makes the TP_KIND column the
+    phase label; without it the label never says SUPERCRITICAL (P_pc unknown)."""
     nc = m[2].shape[0]
     shape, Tf, Pf, xf, wf = _batch(T, P, x, nc, which)
     out = np.empty((Tf.shape[0], TP_NCOL))
     (props_TP_parallel if Tf.shape[0] >= _PARALLEL_MIN else props_TP_serial)(Tf, Pf, xf, wf, m, ig, out)
+    phase_label_serial(Tf, Pf, xf, m[2], np.full(nc, np.nan) if Pc is None else Pc, out)
     return out.reshape(shape + (TP_NCOL,))
 
 

@@ -29,8 +29,24 @@ def _as_float_array(name, value):
     return arr
 
 
+_KERNEL_MODULES = []
+
+
+def _kernel_modules():
+    """(one_state, properties) of eosfill.model, imported on first use (they import numba)."""
+    if not _KERNEL_MODULES:
+        from eosfill.model import one_state, properties
+
+        _KERNEL_MODULES[:] = [one_state, properties]
+    return _KERNEL_MODULES
+
+
 def _out(arr):
     """0-d arrays leave as Python floats, others as arrays."""
+    if type(arr) is float:
+        return arr
+    if isinstance(arr, np.generic):
+        return arr.item()
     arr = np.asarray(arr)
     if arr.ndim == 0:
         return arr.item()
@@ -114,6 +130,25 @@ class State:
             return _out(np.zeros(np.shape(self._T), dtype=np.int64))
         return _out(self.iterations_array)
 
+    @classmethod
+    def _from_row(cls, fluid, T, P, row, x, cbar):
+        """One single-phase state from its labelled (T, P) kernel row (TP_NCOL values of
+        :mod:`eosfill.model.properties`, then ln φ_i) of
+        :func:`eosfill.model.one_state.props_TP_state`; T, P floats, x the fluid's
+        composition, cbar = Σ x c."""
+        os1, kp = _kernel_modules()
+        code = int(row[kp.TP_KIND])
+        st = object.__new__(cls)
+        # the attributes of __init__ and _set in one dict (one state is made often)
+        st.__dict__ = dict(
+            fluid=fluid, liquid=None, vapour=None, phases=None, _phase_fractions=None, solver_info={},
+            status_array=None, residual_array=None, iterations_array=None,
+            _T=np.float64(T), _P=np.float64(P), _v=row[kp.TP_V], _h=row[kp.TP_H], _u=row[kp.TP_U],
+            _s=row[kp.TP_S], _x=x, _sol=os1.RowSol(row), _h_res=row[kp.TP_H_RES], _s_res=row[kp.TP_S_RES],
+            _v_eos=row[kp.TP_V_EOS], _shift=row[kp.TP_SHIFT], _cbar=cbar, _row=row,
+            _phase_code=np.int8(code), _beta=0.0 if code == LIQUID else 1.0)
+        return st
+
     def _set(self, T, P, v, h, u, s, beta, x, sol=None, h_res=None, s_res=None, v_eos=None, shift=None):
         self._T, self._P, self._v, self._h, self._u, self._s = T, P, v, h, u, s
         self._x = x
@@ -153,6 +188,9 @@ class State:
     @property
     def phase(self):
         """Phase label(s): "gas", "liquid", "supercritical" or "two-phase"."""
+        code = self._phase_code
+        if not np.ndim(code):
+            return PHASES[int(code)]
         labels = np.asarray(PHASES, dtype=object)[np.asarray(self._phase_code)]
         return labels if isinstance(labels, np.ndarray) and labels.ndim else str(labels)
 
@@ -228,6 +266,9 @@ class State:
 
     # --- single-phase derivative properties --------------------------------
     def _require_single(self, what):
+        code = self._phase_code
+        if self._sol is not None and (code < TWO_PHASE if not np.ndim(code) else not np.any(code >= TWO_PHASE)):
+            return
         if self._sol is None or np.any(self._phase_code >= TWO_PHASE):
             rows = np.argwhere(np.atleast_1d(self._phase_code) >= TWO_PHASE).ravel()[:5].tolist()
             raise EosfillError(
@@ -298,6 +339,9 @@ class State:
     # --- departures and fugacity --------------------------------------------
     def _cP(self):
         """P Σ x_i c_i [J/mol]: what the volume translation moves h and g by (V2)."""
+        cbar = self.__dict__.get("_cbar")   # Σ x c, kept by a one-state constructor
+        if cbar is not None:
+            return self._P * cbar
         return np.asarray(self._P) * (np.asarray(self._x) @ self.fluid.volume_shift)
 
     @property
@@ -334,6 +378,9 @@ class State:
     @cached_property
     def _lnphi(self):
         self._require_single("ln_phi")
+        row = self.__dict__.get("_row")
+        if row is not None:   # one state: ln φ came with its kernel row
+            return row[-self.fluid.nc:]
         from eosfill.model import properties as kp
 
         lnphi = kp.ln_phi_at_Z(self.fluid.params.kernel_model, self._T, self._P, self._sol["Z"], self._x_fixed())
