@@ -298,6 +298,8 @@ class _OneStateData:
         self.model_T_hi = min([v[1] for v in valid], default=np.inf)
         self.model_P_max = min([v[2] for v in valid], default=np.inf)
         self.cbar = float(x @ fluid.volume_shift)
+        self.b = float(x @ fluid.params.b)            # the cubic's co-volume Σ x b
+        self.Tc_min = float(np.min(fluid.Tc))
 
 
 def _one_state_data(fluid):

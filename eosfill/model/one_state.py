@@ -26,13 +26,14 @@ import numpy as np
 from numba import njit, prange
 
 from eosfill.constants import R
-from eosfill.errors import CONVERGED, NO_SOLUTION, NOT_CONVERGED
+from eosfill.errors import CONVERGED, NOT_CONVERGED
 from eosfill.model import cubic_kernels as ck
 from eosfill.model import properties as _kp
 from eosfill.model.cubic_kernels import KERNEL
-from eosfill.model.properties import (_CHUNK, TP_CP, TP_DPDT, TP_DPDV, TP_H, TP_NCOL, TP_S, TP_U, TP_V, TP_Z,
-                                      TV_NCOL, TV_U, TV_H, TV_S, KEY_H, KEY_S, KEY_U, T_at_v_one, phase_label_one,
-                                      props_TP_one, props_Tv_one)
+from eosfill.model.properties import (_CHUNK, _PARALLEL_MIN, KEY_H, KEY_S, KEY_U, TP_CP, TP_DPDT, TP_DPDV, TP_H,
+                                      TP_NCOL, TP_S, TP_U, TP_V, TP_Z, TV_H, TV_NCOL, TV_P, TV_S, TV_U, T_at_v_one,
+                                      phase_label_one, props_TP_one, props_Tv_one)
+# TP_NCOL, TV_NCOL (the row widths) and TV_P: for this module's callers
 
 # keys of the search at fixed P (u, h, s of properties.KEY_*, and v)
 KEY_V = 3
@@ -40,6 +41,7 @@ KEYS_P = {"u": KEY_U, "h": KEY_H, "s": KEY_S, "v": KEY_V}
 # a search's outcome besides CONVERGED / NOT_CONVERGED: the target lies outside
 # [f(T_lo), f(T_hi)] (NO_SOLUTION) -- below at T_lo: BELOW, above at T_hi: ABOVE
 BELOW, ABOVE = -1, -2
+PARALLEL_MIN = _PARALLEL_MIN   # batches this large run in parallel
 _STABLE = ck.STABLE
 
 
@@ -187,10 +189,6 @@ def T_at_v_parallel(key, target, v_eos, T_lo, T_hi, T_guess, x, m, ig, tol, maxi
         T_at_v_serial(key, target[lo:hi], v_eos[lo:hi], T_lo, T_hi, T_guess, x, m, ig, tol, maxiter,
                       T[lo:hi], f[lo:hi], status[lo:hi], rows[lo:hi])
 
-
-__all__ = ["KEYS_P", "KEY_V", "BELOW", "ABOVE", "CONVERGED", "NOT_CONVERGED", "NO_SOLUTION", "TP_NCOL", "TV_NCOL",
-           "props_TP_state", "T_at_P_one", "T_at_P_serial", "T_at_P_parallel",
-           "T_at_v_checked_one", "T_at_v_serial", "T_at_v_parallel"]
 
 
 # --------------------------------------------------------------------------

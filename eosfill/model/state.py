@@ -17,6 +17,7 @@ from eosfill.errors import EosfillError, InputError
 
 PHASES = ("gas", "liquid", "supercritical", "two-phase", "three-phase")
 GAS, LIQUID, SUPERCRITICAL, TWO_PHASE, THREE_PHASE = 0, 1, 2, 3, 4
+_CODES = tuple(np.int8(k) for k in range(len(PHASES)))   # the codes as numpy scalars, made once
 
 
 def _as_float_array(name, value):
@@ -139,14 +140,18 @@ class State:
         os1, kp = _kernel_modules()
         code = int(row[kp.TP_KIND])
         st = object.__new__(cls)
-        # the attributes of __init__ and _set in one dict (one state is made often)
-        st.__dict__ = dict(
-            fluid=fluid, liquid=None, vapour=None, phases=None, _phase_fractions=None, solver_info={},
-            status_array=None, residual_array=None, iterations_array=None,
-            _T=np.float64(T), _P=np.float64(P), _v=row[kp.TP_V], _h=row[kp.TP_H], _u=row[kp.TP_U],
-            _s=row[kp.TP_S], _x=x, _sol=os1.RowSol(row), _h_res=row[kp.TP_H_RES], _s_res=row[kp.TP_S_RES],
-            _v_eos=row[kp.TP_V_EOS], _shift=row[kp.TP_SHIFT], _cbar=cbar, _row=row,
-            _phase_code=np.int8(code), _beta=0.0 if code == LIQUID else 1.0)
+        # the attributes of __init__ and _set, set here directly (one state is made often)
+        st.fluid, st.liquid, st.vapour, st.phases, st._phase_fractions = fluid, None, None, None, None
+        st.solver_info = {}
+        st.status_array = st.residual_array = st.iterations_array = None
+        st._T, st._P = np.float64(T), np.float64(P)
+        st._v, st._h, st._u, st._s = row[kp.TP_V], row[kp.TP_H], row[kp.TP_U], row[kp.TP_S]
+        st._x, st._sol = x, os1.RowSol(row)
+        st._h_res, st._s_res = row[kp.TP_H_RES], row[kp.TP_S_RES]
+        st._v_eos, st._shift = row[kp.TP_V_EOS], row[kp.TP_SHIFT]
+        st._cbar, st._row = cbar, row
+        st._phase_code = _CODES[code]
+        st._beta = 0.0 if code == LIQUID else 1.0
         return st
 
     def _set(self, T, P, v, h, u, s, beta, x, sol=None, h_res=None, s_res=None, v_eos=None, shift=None):
