@@ -47,10 +47,8 @@ TV_NAMES = ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v", "b")
 (TP_Z, TP_V_EOS, TP_V, TP_A, TP_A_T, TP_A_TT, TP_B, TP_ADIM, TP_BDIM, TP_R0, TP_R1, TP_R2, TP_CHOICE,
  TP_H, TP_U, TP_S, TP_H_RES, TP_S_RES, TP_CV, TP_CP, TP_DPDT, TP_DPDV, TP_PI, TP_SHIFT, TP_KIND) = range(25)
 TP_NCOL = 25
-# TP_KIND: the phase label of :func:`eosfill.model.phase_label.phase_kind` (codes of
-# :mod:`eosfill.model.state`), filled by :func:`phase_label_one` (:func:`props_TP_rows`
-# labels its rows; the label says SUPERCRITICAL only when given the components' Pc)
-_GAS, _LIQUID, _SUPERCRITICAL = GAS, LIQUID, SUPERCRITICAL
+# TP_KIND: phase_kind's label (codes of model.state) by phase_label_one; props_TP_rows
+# labels its rows (SUPERCRITICAL only when given the components' Pc)
 
 # keys of the 1-D solves at fixed v
 KEY_U, KEY_H, KEY_S = 0, 1, 2
@@ -146,24 +144,16 @@ def props_TP_one(T, P, x, m, ig, which, q, dq, d2q, out):
 
 @njit(**KERNEL)
 def phase_label_one(T, P, x, Tc, Pc, out):
-    """The label rule of :func:`eosfill.model.phase_label.phase_kind` on a (T, P) row
-    ``out`` (its roots, B, Z and Π) into ``out[TP_KIND]``; returns the code.
-
-    T_pc, P_pc by Kay's rule (Kay 1936); T ≥ T_pc: SUPERCRITICAL where P ≥ P_pc, else
-    GAS; below T_pc with two or more admissible roots (Z > B): GAS on the largest root,
-    else LIQUID; with one root: Π > 1 LIQUID, else GAS (Venkatarathnam & Oellrich 2011, Eq. 6).
-    """
-    Tpc = 0.0
-    Ppc = 0.0
+    """The label rule of :func:`eosfill.model.phase_label.phase_kind` (Kay's-rule T_pc, P_pc;
+    roots count, on-largest-root, Π) on a (T, P) row ``out`` into ``out[TP_KIND]``; returns it."""
+    Tpc, Ppc = 0.0, 0.0
     for i in range(x.shape[0]):
         Tpc += x[i] * Tc[i]
         Ppc += x[i] * Pc[i]
     if T >= Tpc:
-        kind = _SUPERCRITICAL if P >= Ppc else _GAS
+        kind = SUPERCRITICAL if P >= Ppc else GAS
     else:
-        B = out[TP_BDIM]
-        n = 0
-        Zmax = -np.inf
+        B, n, Zmax = out[TP_BDIM], 0, -np.inf
         for k in range(TP_R0, TP_R2 + 1):
             r = out[k]
             if np.isfinite(r) and r > B:
@@ -172,9 +162,9 @@ def phase_label_one(T, P, x, Tc, Pc, out):
         if n >= 2:
             Z = P * out[TP_V_EOS] / (R * T)
             on_largest = abs(Z - Zmax) <= 1e-9 * max(abs(Zmax), 1e-300) + 1e-12
-            kind = _GAS if on_largest else _LIQUID
+            kind = GAS if on_largest else LIQUID
         else:
-            kind = _LIQUID if out[TP_PI] > 1.0 else _GAS
+            kind = LIQUID if out[TP_PI] > 1.0 else GAS
     out[TP_KIND] = kind
     return kind
 
@@ -449,11 +439,17 @@ def _batch(T, second, x, nc, which=None):
     second = np.asarray(second, dtype=float)
     x = np.asarray(x, dtype=float)
     w = None if which is None or isinstance(which, str) else np.asarray(which)
-    shapes = [T.shape, second.shape] + ([x.shape[:-1]] if x.ndim > 1 else []) + ([w.shape] if w is not None else [])
-    shape = np.broadcast_shapes(*shapes)
-    Tf = _f64(np.broadcast_to(T, shape).reshape(-1))
-    sf = _f64(np.broadcast_to(second, shape).reshape(-1))
-    xf = _f64(x.reshape(1, nc) if x.ndim == 1 else np.broadcast_to(x, shape + (nc,)).reshape(-1, nc))
+    if (T.ndim == 1 and second.shape == T.shape and (x.ndim == 1 or x.shape[:-1] == T.shape)
+            and (w is None or w.shape == T.shape)):   # flat arrays of one length already: no broadcasting
+        shape = T.shape
+        Tf, sf = _f64(T), _f64(second)
+        xf = _f64(x.reshape(1, nc) if x.ndim == 1 else x)
+    else:
+        shapes = [T.shape, second.shape] + ([x.shape[:-1]] if x.ndim > 1 else []) + ([w.shape] if w is not None else [])
+        shape = np.broadcast_shapes(*shapes)
+        Tf = _f64(np.broadcast_to(T, shape).reshape(-1))
+        sf = _f64(np.broadcast_to(second, shape).reshape(-1))
+        xf = _f64(x.reshape(1, nc) if x.ndim == 1 else np.broadcast_to(x, shape + (nc,)).reshape(-1, nc))
     if which is None:
         wf = None
     elif w is None:
