@@ -344,9 +344,13 @@ def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
         bad = np.argwhere(~np.isfinite(np.atleast_1d(Z)))[:3].ravel().tolist()
         raise EosfillError(f"no admissible root of the cubic at rows {bad}")
     x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
-    present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
-    idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
-    _check_model_range(fluid, T, P, present)
+    d = _one_state_data(fluid)
+    lo, hi, pmax = (float(T.min()), float(T.max()), float(P.max())) if T.size else (d.T_lo, d.T_lo, 0.0)
+    inside = d.T_lo <= lo and hi <= d.T_hi and d.model_T_lo <= lo and hi <= d.model_T_hi and pmax <= d.model_P_max
+    if not (inside and x is d.x_source):   # the fluid's own composition inside every range: nothing to warn
+        present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
+        idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
+        _check_model_range(fluid, T, P, present)
     sol = os1.RowSol(rows)
     st = State(fluid)
     st._set(T=T, P=P, v=rows[..., kp.TP_V], h=rows[..., kp.TP_H], u=rows[..., kp.TP_U], s=rows[..., kp.TP_S],

@@ -226,6 +226,11 @@ class RowSol(Mapping):
             self._made[key] = val
         return val
 
+    @property
+    def rows(self):
+        """The (T, P) rows the entries are read from."""
+        return self._rows
+
     def __contains__(self, key):
         return key in _SOL_COLUMNS or key == "roots" or key == "choice"
 

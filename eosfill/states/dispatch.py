@@ -368,7 +368,10 @@ def _reshape(st: State, shape):
         if isinstance(obj._shift, np.ndarray) and obj._shift.ndim == 1:
             obj._shift = obj._shift.reshape(shape)
         obj._x = np.asarray(obj._x).reshape(shape + (obj.fluid.nc,))
-        if obj._sol is not None:
+        rows = getattr(obj._sol, "rows", None)
+        if rows is not None and rows.ndim == 2:   # entries read from kernel rows: reshape the rows
+            obj._sol = type(obj._sol)(rows.reshape(shape + rows.shape[1:]))
+        elif obj._sol is not None:
             new = {}
             for k, val in obj._sol.items():
                 val = np.asarray(val)
