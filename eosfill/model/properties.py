@@ -36,7 +36,7 @@ from eosfill.errors import CONVERGED, NOT_CONVERGED
 from eosfill.model import cubic_kernels as ck
 from eosfill.model.cubic_kernels import KERNEL
 from eosfill.model.idealgas_kernels import mixture_ideal
-from eosfill.model.state import GAS, LIQUID, SUPERCRITICAL
+from eosfill.model.phases import GAS, LIQUID, SUPERCRITICAL
 
 # columns of a (T, v) row
 TV_P, TV_U, TV_H, TV_S, TV_CV, TV_DPDT, TV_DPDV, TV_V, TV_B = range(9)

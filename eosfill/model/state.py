@@ -15,8 +15,8 @@ from eosfill.model import cubic
 from eosfill.constants import R
 from eosfill.errors import EosfillError, InputError
 
-PHASES = ("gas", "liquid", "supercritical", "two-phase", "three-phase")
-GAS, LIQUID, SUPERCRITICAL, TWO_PHASE, THREE_PHASE = 0, 1, 2, 3, 4
+from eosfill.model.phases import GAS, LIQUID, PHASES, SUPERCRITICAL, THREE_PHASE, TWO_PHASE  # noqa: F401  (re-exported)
+
 _CODES = tuple(np.int8(k) for k in range(len(PHASES)))   # the codes as numpy scalars, made once
 
 

@@ -87,6 +87,7 @@ SPEC_RTOL = 1e-8
 _SPEC_FLOOR = {"u": lambda T: R * T, "h": lambda T: R * T, "s": lambda T: R + 0.0 * T}
 
 ON_FAILURE = ("raise", "flag")
+_ONE_CONVERGED, _ONE_NO_ITERATIONS = np.int8(CONVERGED), np.int64(0)   # a one-state result's status, iterations
 
 
 def solve_state(fluid: Mixture, on_failure="raise", **spec):
@@ -162,9 +163,7 @@ def _solve_one(fluid, given):
         res = max(res, r if math.isfinite(r) else math.inf)
     if not res <= SPEC_RTOL:
         return None
-    st.status_array = np.int8(CONVERGED)
-    st.residual_array = np.float64(res)
-    st.iterations_array = np.int64(0)
+    st.status_array, st.residual_array, st.iterations_array = _ONE_CONVERGED, res, _ONE_NO_ITERATIONS
     return st
 
 
