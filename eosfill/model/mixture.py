@@ -21,14 +21,16 @@ per kg.  Reference state: each component as ideal gas with H = 0, S = 0 at
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from eosfill.model import cubic
 from eosfill.model import idealgas
 from eosfill.model.components import get_component, kij_matrix
 from eosfill.errors import EosfillError, InputError
-from eosfill.model.state import LIQUID, State, _as_float_array, _out
-from eosfill.model.phase_label import phase_kind
+from eosfill.model.state import LIQUID, State, _as_float_array, _kernel_modules, _out
+from eosfill.model.phase_label import phase_kind  # noqa: F401  (re-exported)
 from eosfill.model.state import GAS, PHASES, SUPERCRITICAL, THREE_PHASE, TWO_PHASE  # noqa: F401  (re-exported)
 
 
@@ -240,6 +242,10 @@ class Mixture:
         "liquid" (smallest) or "vapour" (largest).  ``x`` (shape (..., nc))
         overrides the fluid's composition, for phases of a flash.
         """
+        if x is None and type(which) is str:
+            Ts, Ps = _scalar(T), _scalar(P)
+            if Ts is not None and Ps is not None:   # one state: plain floats, one kernel call
+                return _single_phase_one(self, Ts, Ps, which)
         T = _as_float_array("T", T)
         P = _as_float_array("P", P)
         if np.any(T <= 0.0):
@@ -260,31 +266,98 @@ class Mixture:
         return float(self.Tc[0]), float(self.Pc[0])
 
 
+def _scalar(value):
+    """A Python float for one real number (float, int, numpy scalar, 0-d array), else None."""
+    t = type(value)
+    if t is float or t is int or t is np.float64:
+        return float(value)
+    if isinstance(value, (np.floating, np.integer)) or (isinstance(value, np.ndarray) and value.ndim == 0
+                                                        and value.dtype.kind in "fiu"):
+        return float(value)
+    return None
+
+
+class _OneStateData:
+    """What the one-state path of a fluid reuses (for its own composition): the kernel
+    arguments and the T range inside which no range warning is due."""
+
+    def __init__(self, fluid):
+        x = fluid.mole_fractions
+        self.x_source = x
+        self.x = np.array(x, dtype=np.float64)
+        self.m = fluid.params.kernel_model
+        self.ig = fluid.kernel_ideal_gas
+        self.Pc = np.array(fluid.Pc, dtype=np.float64)
+        present = x > 0.0
+        self.present = present
+        self.T_lo = float(np.max(fluid.cp_Tmin[present]))    # Cp° correlations of the present components
+        self.T_hi = float(np.min(fluid.cp_Tmax[present]))
+        valid = [(tmin, tmax, pmax) for name, tmin, tmax, pmax in fluid.__dict__.get("_model_valid", ())
+                 if present[fluid.names.index(name)]]
+        self.model_T_lo = max([v[0] for v in valid], default=-np.inf)   # fitted model parameters
+        self.model_T_hi = min([v[1] for v in valid], default=np.inf)
+        self.model_P_max = min([v[2] for v in valid], default=np.inf)
+        self.cbar = float(x @ fluid.volume_shift)
+        self.b = float(x @ fluid.params.b)            # the cubic's co-volume Σ x b
+        self.Tc_min = float(np.min(fluid.Tc))
+
+
+def _one_state_data(fluid):
+    data = fluid.__dict__.get("_one_state_data")
+    if data is None or data.x_source is not fluid.mole_fractions:
+        data = _OneStateData(fluid)
+        fluid.__dict__["_one_state_data"] = data
+    return data
+
+
+def _single_phase_one(fluid: Mixture, T, P, which):
+    """:meth:`Mixture.single_phase` for one state (T, P floats) with the fluid's composition:
+    one labelled kernel row, range checks on floats, the State read from the row."""
+    if not (math.isfinite(T) and math.isfinite(P)):
+        bad = ("T", T) if not math.isfinite(T) else ("P", P)
+        raise InputError(bad[0], bad[1], "finite numbers (no NaN or inf)")
+    if T <= 0.0:
+        raise InputError("T", T, "T > 0 K")
+    if P <= 0.0:
+        raise InputError("P", P, "P > 0 Pa")
+    d = _one_state_data(fluid)
+    os1, kp = _kernel_modules()
+    row = np.empty(kp.TP_NCOL + fluid.nc)
+    Z = os1.props_TP_state(T, P, d.x, d.m, d.ig, kp.WHICH_CODES[which], d.Pc, row)
+    if not math.isfinite(Z):
+        raise EosfillError("no admissible root of the cubic at rows [0]")
+    if not d.T_lo <= T <= d.T_hi:
+        idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, d.present)
+    if not (d.model_T_lo <= T <= d.model_T_hi and P <= d.model_P_max):
+        _check_model_range(fluid, T, P, d.present)
+    return State._from_row(fluid, T, P, row, d.x_source, d.cbar)
+
+
 def _single_phase_state(fluid: Mixture, T, P, x, which="stable"):
+    from eosfill.model import one_state as os1
     from eosfill.model import properties as kp
 
     p = fluid.params
-    rows = kp.props_TP_rows(p.kernel_model, fluid.kernel_ideal_gas, T, P, x, which)
+    rows = kp.props_TP_rows(p.kernel_model, fluid.kernel_ideal_gas, T, P, x, which, _one_state_data(fluid).Pc)
     Z = rows[..., kp.TP_Z]
     if not np.all(np.isfinite(Z)):
         bad = np.argwhere(~np.isfinite(np.atleast_1d(Z)))[:3].ravel().tolist()
         raise EosfillError(f"no admissible root of the cubic at rows {bad}")
     x_arr = np.broadcast_to(x, np.shape(T) + (fluid.nc,)) if np.ndim(x) == 1 else x
-    present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
-    idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
-    _check_model_range(fluid, T, P, present)
-    sol = dict(Z=Z, v=rows[..., kp.TP_V_EOS], a=rows[..., kp.TP_A], a_T=rows[..., kp.TP_A_T],
-               a_TT=rows[..., kp.TP_A_TT], b=rows[..., kp.TP_B], A=rows[..., kp.TP_ADIM],
-               B=rows[..., kp.TP_BDIM], roots=rows[..., kp.TP_R0:kp.TP_R2 + 1],
-               choice=rows[..., kp.TP_CHOICE].astype(np.int8),
-               dPdT=rows[..., kp.TP_DPDT], dPdv=rows[..., kp.TP_DPDV], cv=rows[..., kp.TP_CV],
-               cp=rows[..., kp.TP_CP], Pi=rows[..., kp.TP_PI])
-    hR, sR = rows[..., kp.TP_H_RES], rows[..., kp.TP_S_RES]
+    d = _one_state_data(fluid)
+    lo, hi, pmax = (float(T.min()), float(T.max()), float(P.max())) if T.size else (d.T_lo, d.T_lo, 0.0)
+    inside = d.T_lo <= lo and hi <= d.T_hi and d.model_T_lo <= lo and hi <= d.model_T_hi and pmax <= d.model_P_max
+    if not (inside and x is d.x_source):   # the fluid's own composition inside every range: nothing to warn
+        present = np.any(np.reshape(x_arr, (-1, fluid.nc)) > 0.0, axis=0)
+        idealgas.check_range(T, fluid.cp_Tmin, fluid.cp_Tmax, fluid.names, present)
+        _check_model_range(fluid, T, P, present)
+    sol = os1.RowSol(rows)
     st = State(fluid)
     st._set(T=T, P=P, v=rows[..., kp.TP_V], h=rows[..., kp.TP_H], u=rows[..., kp.TP_U], s=rows[..., kp.TP_S],
-            beta=None, x=x_arr, sol=sol, h_res=hR, s_res=sR, v_eos=sol["v"], shift=rows[..., kp.TP_SHIFT])
-    code = phase_kind(fluid, T, P, sol["v"], x, sol=sol)
-    st._phase_code = code.astype(np.int8)
+            beta=None, x=x_arr, sol=sol, h_res=rows[..., kp.TP_H_RES], s_res=rows[..., kp.TP_S_RES],
+            v_eos=rows[..., kp.TP_V_EOS], shift=rows[..., kp.TP_SHIFT])
+    code = rows[..., kp.TP_KIND].astype(np.int8)   # phase_kind's rule, in the kernel
+    st._phase_code = code
     st._beta = np.where(code == LIQUID, 0.0, 1.0)
     return st
 

@@ -36,6 +36,7 @@ from eosfill.errors import CONVERGED, NOT_CONVERGED
 from eosfill.model import cubic_kernels as ck
 from eosfill.model.cubic_kernels import KERNEL
 from eosfill.model.idealgas_kernels import mixture_ideal
+from eosfill.model.phases import GAS, LIQUID, SUPERCRITICAL
 
 # columns of a (T, v) row
 TV_P, TV_U, TV_H, TV_S, TV_CV, TV_DPDT, TV_DPDV, TV_V, TV_B = range(9)
@@ -44,8 +45,10 @@ TV_NAMES = ("P", "u", "h", "s", "cv", "dPdT", "dPdv", "v", "b")
 
 # columns of a (T, P) row
 (TP_Z, TP_V_EOS, TP_V, TP_A, TP_A_T, TP_A_TT, TP_B, TP_ADIM, TP_BDIM, TP_R0, TP_R1, TP_R2, TP_CHOICE,
- TP_H, TP_U, TP_S, TP_H_RES, TP_S_RES, TP_CV, TP_CP, TP_DPDT, TP_DPDV, TP_PI, TP_SHIFT) = range(24)
-TP_NCOL = 24
+ TP_H, TP_U, TP_S, TP_H_RES, TP_S_RES, TP_CV, TP_CP, TP_DPDT, TP_DPDV, TP_PI, TP_SHIFT, TP_KIND) = range(25)
+TP_NCOL = 25
+# TP_KIND: phase_kind's label (codes of model.state) by phase_label_one; props_TP_rows
+# labels its rows (SUPERCRITICAL only when given the components' Pc)
 
 # keys of the 1-D solves at fixed v
 KEY_U, KEY_H, KEY_S = 0, 1, 2
@@ -137,6 +140,33 @@ def props_TP_one(T, P, x, m, ig, which, q, dq, d2q, out):
     out[TP_DPDV] = dPdv
     out[TP_PI] = ck.phase_identification_parameter(T, v_eos, a, a_T, b, d1, d2)
     out[TP_SHIFT] = cbar
+
+
+@njit(**KERNEL)
+def phase_label_one(T, P, x, Tc, Pc, out):
+    """The label rule of :func:`eosfill.model.phase_label.phase_kind` (Kay's-rule T_pc, P_pc;
+    roots count, on-largest-root, Π) on a (T, P) row ``out`` into ``out[TP_KIND]``; returns it."""
+    Tpc, Ppc = 0.0, 0.0
+    for i in range(x.shape[0]):
+        Tpc += x[i] * Tc[i]
+        Ppc += x[i] * Pc[i]
+    if T >= Tpc:
+        kind = SUPERCRITICAL if P >= Ppc else GAS
+    else:
+        B, n, Zmax = out[TP_BDIM], 0, -np.inf
+        for k in range(TP_R0, TP_R2 + 1):
+            r = out[k]
+            if np.isfinite(r) and r > B:
+                n += 1
+                Zmax = max(Zmax, r)
+        if n >= 2:
+            Z = P * out[TP_V_EOS] / (R * T)
+            on_largest = abs(Z - Zmax) <= 1e-9 * max(abs(Zmax), 1e-300) + 1e-12
+            kind = GAS if on_largest else LIQUID
+        else:
+            kind = LIQUID if out[TP_PI] > 1.0 else GAS
+    out[TP_KIND] = kind
+    return kind
 
 
 @njit(**KERNEL)
@@ -275,6 +305,14 @@ def props_TP_serial(T, P, x, which, m, ig, out):
 
 
 @njit(**KERNEL)
+def phase_label_serial(T, P, x, Tc, Pc, out):
+    """:func:`phase_label_one` on (T, P) rows out[k] (x broadcast from one row)."""
+    one_x = x.shape[0] == 1
+    for k in range(T.shape[0]):
+        phase_label_one(T[k], P[k], x[0] if one_x else x[k], Tc, Pc, out[k])
+
+
+@njit(**KERNEL)
 def ln_phi_TP_serial(T, P, x, which, m, out, Z):
     """ln φ rows (out[k], shape (nc,)) and roots Z[k] for states k."""
     nc = x.shape[1]
@@ -401,11 +439,17 @@ def _batch(T, second, x, nc, which=None):
     second = np.asarray(second, dtype=float)
     x = np.asarray(x, dtype=float)
     w = None if which is None or isinstance(which, str) else np.asarray(which)
-    shapes = [T.shape, second.shape] + ([x.shape[:-1]] if x.ndim > 1 else []) + ([w.shape] if w is not None else [])
-    shape = np.broadcast_shapes(*shapes)
-    Tf = _f64(np.broadcast_to(T, shape).reshape(-1))
-    sf = _f64(np.broadcast_to(second, shape).reshape(-1))
-    xf = _f64(x.reshape(1, nc) if x.ndim == 1 else np.broadcast_to(x, shape + (nc,)).reshape(-1, nc))
+    if (T.ndim == 1 and second.shape == T.shape and (x.ndim == 1 or x.shape[:-1] == T.shape)
+            and (w is None or w.shape == T.shape)):   # flat arrays of one length already: no broadcasting
+        shape = T.shape
+        Tf, sf = _f64(T), _f64(second)
+        xf = _f64(x.reshape(1, nc) if x.ndim == 1 else x)
+    else:
+        shapes = [T.shape, second.shape] + ([x.shape[:-1]] if x.ndim > 1 else []) + ([w.shape] if w is not None else [])
+        shape = np.broadcast_shapes(*shapes)
+        Tf = _f64(np.broadcast_to(T, shape).reshape(-1))
+        sf = _f64(np.broadcast_to(second, shape).reshape(-1))
+        xf = _f64(x.reshape(1, nc) if x.ndim == 1 else np.broadcast_to(x, shape + (nc,)).reshape(-1, nc))
     if which is None:
         wf = None
     elif w is None:
@@ -424,12 +468,16 @@ def props_Tv_rows(m, ig, T, v_eos, x):
     return out.reshape(shape + (TV_NCOL,))
 
 
-def props_TP_rows(m, ig, T, P, x, which="stable"):
-    """(T, P) rows, shape (..., TP_NCOL); ``which`` "stable", "liquid", "vapour" or codes 0/1/2."""
+def props_TP_rows(m, ig, T, P, x, which="stable", Pc=None):
+    """(T, P) rows, shape (..., TP_NCOL); ``which`` "stable", "liquid", "vapour" or codes 0/1/2.
+
+    ``Pc`` (nc,), the components' critical pressures [Pa], makes the TP_KIND column the
+    phase label; without it the label never says SUPERCRITICAL (P_pc unknown)."""
     nc = m[2].shape[0]
     shape, Tf, Pf, xf, wf = _batch(T, P, x, nc, which)
     out = np.empty((Tf.shape[0], TP_NCOL))
     (props_TP_parallel if Tf.shape[0] >= _PARALLEL_MIN else props_TP_serial)(Tf, Pf, xf, wf, m, ig, out)
+    phase_label_serial(Tf, Pf, xf, m[2], np.full(nc, np.nan) if Pc is None else Pc, out)
     return out.reshape(shape + (TP_NCOL,))
 
 

@@ -15,8 +15,9 @@ from eosfill.model import cubic
 from eosfill.constants import R
 from eosfill.errors import EosfillError, InputError
 
-PHASES = ("gas", "liquid", "supercritical", "two-phase", "three-phase")
-GAS, LIQUID, SUPERCRITICAL, TWO_PHASE, THREE_PHASE = 0, 1, 2, 3, 4
+from eosfill.model.phases import GAS, LIQUID, PHASES, SUPERCRITICAL, THREE_PHASE, TWO_PHASE  # noqa: F401  (re-exported)
+
+_CODES = tuple(np.int8(k) for k in range(len(PHASES)))   # the codes as numpy scalars, made once
 
 
 def _as_float_array(name, value):
@@ -29,8 +30,24 @@ def _as_float_array(name, value):
     return arr
 
 
+_KERNEL_MODULES = []
+
+
+def _kernel_modules():
+    """(one_state, properties) of eosfill.model, imported on first use (they import numba)."""
+    if not _KERNEL_MODULES:
+        from eosfill.model import one_state, properties
+
+        _KERNEL_MODULES[:] = [one_state, properties]
+    return _KERNEL_MODULES
+
+
 def _out(arr):
     """0-d arrays leave as Python floats, others as arrays."""
+    if type(arr) is float:
+        return arr
+    if isinstance(arr, np.generic):
+        return arr.item()
     arr = np.asarray(arr)
     if arr.ndim == 0:
         return arr.item()
@@ -114,6 +131,29 @@ class State:
             return _out(np.zeros(np.shape(self._T), dtype=np.int64))
         return _out(self.iterations_array)
 
+    @classmethod
+    def _from_row(cls, fluid, T, P, row, x, cbar):
+        """One single-phase state from its labelled (T, P) kernel row (TP_NCOL values of
+        :mod:`eosfill.model.properties`, then ln φ_i) of
+        :func:`eosfill.model.one_state.props_TP_state`; T, P floats, x the fluid's
+        composition, cbar = Σ x c."""
+        os1, kp = _kernel_modules()
+        code = int(row[kp.TP_KIND])
+        st = object.__new__(cls)
+        # the attributes of __init__ and _set, set here directly (one state is made often)
+        st.fluid, st.liquid, st.vapour, st.phases, st._phase_fractions = fluid, None, None, None, None
+        st.solver_info = {}
+        st.status_array = st.residual_array = st.iterations_array = None
+        st._T, st._P = np.float64(T), np.float64(P)
+        st._v, st._h, st._u, st._s = row[kp.TP_V], row[kp.TP_H], row[kp.TP_U], row[kp.TP_S]
+        st._x, st._sol = x, os1.RowSol(row)
+        st._h_res, st._s_res = row[kp.TP_H_RES], row[kp.TP_S_RES]
+        st._v_eos, st._shift = row[kp.TP_V_EOS], row[kp.TP_SHIFT]
+        st._cbar, st._row = cbar, row
+        st._phase_code = _CODES[code]
+        st._beta = 0.0 if code == LIQUID else 1.0
+        return st
+
     def _set(self, T, P, v, h, u, s, beta, x, sol=None, h_res=None, s_res=None, v_eos=None, shift=None):
         self._T, self._P, self._v, self._h, self._u, self._s = T, P, v, h, u, s
         self._x = x
@@ -153,6 +193,9 @@ class State:
     @property
     def phase(self):
         """Phase label(s): "gas", "liquid", "supercritical" or "two-phase"."""
+        code = self._phase_code
+        if not np.ndim(code):
+            return PHASES[int(code)]
         labels = np.asarray(PHASES, dtype=object)[np.asarray(self._phase_code)]
         return labels if isinstance(labels, np.ndarray) and labels.ndim else str(labels)
 
@@ -228,6 +271,9 @@ class State:
 
     # --- single-phase derivative properties --------------------------------
     def _require_single(self, what):
+        code = self._phase_code
+        if self._sol is not None and (code < TWO_PHASE if not np.ndim(code) else not np.any(code >= TWO_PHASE)):
+            return
         if self._sol is None or np.any(self._phase_code >= TWO_PHASE):
             rows = np.argwhere(np.atleast_1d(self._phase_code) >= TWO_PHASE).ravel()[:5].tolist()
             raise EosfillError(
@@ -298,6 +344,9 @@ class State:
     # --- departures and fugacity --------------------------------------------
     def _cP(self):
         """P Σ x_i c_i [J/mol]: what the volume translation moves h and g by (V2)."""
+        cbar = self.__dict__.get("_cbar")   # Σ x c, kept by a one-state constructor
+        if cbar is not None:
+            return self._P * cbar
         return np.asarray(self._P) * (np.asarray(self._x) @ self.fluid.volume_shift)
 
     @property
@@ -334,6 +383,9 @@ class State:
     @cached_property
     def _lnphi(self):
         self._require_single("ln_phi")
+        row = self.__dict__.get("_row")
+        if row is not None:   # one state: ln φ came with its kernel row
+            return row[-self.fluid.nc:]
         from eosfill.model import properties as kp
 
         lnphi = kp.ln_phi_at_Z(self.fluid.params.kernel_model, self._T, self._P, self._sol["Z"], self._x_fixed())

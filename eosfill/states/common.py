@@ -7,8 +7,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from eosfill.constants import R
 from eosfill.errors import ConvergenceError, InputError
-from eosfill.model.mixture import LIQUID, TWO_PHASE, Mixture, State, _out
+from eosfill.model.mixture import LIQUID, TWO_PHASE, Mixture, State, _one_state_data, _out
 
 _ILLINOIS_MAXITER = 200
 # upper end of every 1-D search in T [K]: the ideal-gas Cp° polynomials are
@@ -87,6 +88,66 @@ def illinois(f, lo, hi, flo, fhi, xtol, ftol, maxiter=_ILLINOIS_MAXITER):
 
 
 # --------------------------------------------------------------------------
+# the single-phase 1-D searches in T, compiled (eosfill.model.one_state)
+# --------------------------------------------------------------------------
+_SCALE = {"h": R * 300.0, "u": R * 300.0, "s": R, "v": 1.0}   # f = (prop - target)/scale (ln(v/target) for v)
+
+
+def single_phase_T_at_P(fluid: Mixture, P, key, target, lo, hi):
+    """T with prop(T, P) = target on the lowest-Gibbs root, prop in (h, s, u, v), per row of
+    P, target (n,) inside [lo, hi] (arrays (n,) or floats): the compiled search
+    :func:`eosfill.model.one_state.T_at_P_one`, one call for the batch.
+
+    Returns T, f, converged (as :func:`illinois`: |f| ≤ 1e-13 or a bracket ≤ 1e-14 ×
+    the search's upper T).  Raises :class:`InputError` for a row whose target the
+    model does not reach between lo and hi."""
+    from eosfill.model import one_state as os1
+
+    d = _one_state_data(fluid)
+    n = P.shape[0]
+    lo = np.broadcast_to(np.asarray(lo, dtype=float), (n,)).astype(float)
+    hi = np.broadcast_to(np.asarray(hi, dtype=float), (n,)).astype(float)
+    T, f = np.empty(n), np.empty(n)
+    status = np.empty(n, dtype=np.int64)
+    rows = np.empty((n, os1.TP_NCOL))
+    run = os1.T_at_P_parallel if n >= os1.PARALLEL_MIN else os1.T_at_P_serial
+    run(os1.KEYS_P[key], np.array(target, dtype=float), np.array(P, dtype=float), lo, hi, 300.0, d.x, d.m, d.ig,
+        _SCALE[key], 1e-14 * _T_SEARCH_MAX, 1e-13, _ILLINOIS_MAXITER, T, f, status, rows)
+    bad = np.flatnonzero(status < 0)
+    if bad.size:
+        i = int(bad[0])
+        raise InputError(key, float(target[i]), f"a value the model reaches at P = {P[i]:.6g} Pa between "
+                         f"T = {lo[i]:.4g} and {hi[i]:.4g} K")
+    return T, f, status == os1.CONVERGED
+
+
+def single_phase_T_at_v(fluid: Mixture, v_eos, key, target):
+    """T with prop(T, v_eos) = target from the cubic at fixed v (prop in u, h, s), per row of
+    v_eos, target (n,), in the range of :func:`_T_bounds`: the compiled search
+    :func:`eosfill.model.one_state.T_at_v_checked_one`, one call for the batch.
+
+    Returns T, P (the cubic's at (T, v)), converged.  Raises :class:`InputError` for a
+    row whose target lies above the model's value at the upper T."""
+    from eosfill.model import one_state as os1
+
+    d = _one_state_data(fluid)
+    n = v_eos.shape[0]
+    Tlo, Thi = _T_bounds(fluid)
+    T, f = np.empty(n), np.empty(n)
+    status = np.empty(n, dtype=np.int64)
+    rows = np.empty((n, os1.TV_NCOL))
+    run = os1.T_at_v_parallel if n >= os1.PARALLEL_MIN else os1.T_at_v_serial
+    run(os1.KEYS_P[key], np.array(target, dtype=float), np.array(v_eos, dtype=float), Tlo, Thi, 300.0, d.x, d.m,
+        d.ig, 1e-13, _ILLINOIS_MAXITER, T, f, status, rows)
+    above = np.flatnonzero(status == os1.ABOVE)
+    if above.size:
+        i = int(above[0])
+        raise InputError(key, float(target[i]), f"a value below the model's value at T = {Thi:.4g} K "
+                         f"and v = {v_eos[i] - d.cbar:.6g} m3/mol")
+    return T, rows[:, os1.TV_P], status == os1.CONVERGED
+
+
+# --------------------------------------------------------------------------
 # assembling a State; shared helpers of the solvers
 # --------------------------------------------------------------------------
 def _T_bounds(fluid: Mixture):
@@ -95,7 +156,7 @@ def _T_bounds(fluid: Mixture):
     entries accept (above the Cp° correlation's range the ideal-gas part is
     extended with a RangeWarning, as there), so every state those return can be
     found again from any other pair."""
-    lo = max(1.0, 0.4 * float(np.min(fluid.Tc)))
+    lo = max(1.0, 0.4 * _one_state_data(fluid).Tc_min)
     return lo, _T_SEARCH_MAX
 
 def _negative_pressure(P):

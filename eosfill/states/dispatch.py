@@ -59,13 +59,15 @@ solvers, :mod:`eosfill.states.mixture` the mixture solvers.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from eosfill.equilibrium import solvers as equilibrium
 from eosfill.constants import R
 from eosfill.errors import (CONVERGED, NO_SOLUTION, NOT_CONVERGED, STATUS_TEXT, ConvergenceError, EosfillError,
                             InputError)
-from eosfill.model.mixture import Mixture, State, _as_float_array, _out
+from eosfill.model.mixture import Mixture, State, _as_float_array, _out, _scalar
 from eosfill.states.mixture import _mixture_fixed_P, _mixture_fixed_v, _mixture_from_flash, _mixture_TV
 from eosfill.states.pure import (_assemble_pure, _pure_fixed_P, _pure_fixed_T, _pure_fixed_v_scalar, _pure_Tv,
                                  _pure_TP, _solve_fixed_v)
@@ -85,6 +87,7 @@ SPEC_RTOL = 1e-8
 _SPEC_FLOOR = {"u": lambda T: R * T, "h": lambda T: R * T, "s": lambda T: R + 0.0 * T}
 
 ON_FAILURE = ("raise", "flag")
+_ONE_CONVERGED, _ONE_NO_ITERATIONS = np.int8(CONVERGED), np.int64(0)   # a one-state result's status, iterations
 
 
 def solve_state(fluid: Mixture, on_failure="raise", **spec):
@@ -107,6 +110,9 @@ def solve_state(fluid: Mixture, on_failure="raise", **spec):
         raise InputError("state()", sorted(unknown), "two of T, P, v, h, u, s")
     if len(given) != 2:
         raise InputError("state()", sorted(given), "exactly two of T, P, v, h, u, s")
+    one = _solve_one(fluid, given)
+    if one is not None:
+        return one
     arrs = {k: _as_float_array(k, v) for k, v in given.items()}
     for k in ("T", "P", "v"):
         if k in arrs and np.any(arrs[k] <= 0):
@@ -121,6 +127,44 @@ def solve_state(fluid: Mixture, on_failure="raise", **spec):
     keys = frozenset(arrs)
     st = _solve_rows(fluid, keys, arrs, on_failure)
     return _reshape(st, shape)
+
+
+def _solve_one(fluid, given):
+    """One state given as two finite numbers, on plain floats, where a one-state solver
+    answers: a pure fluid at (T, P) (its lowest-Gibbs root) or at fixed v clearly off
+    the saturation dome (:func:`_pure_fixed_v_scalar`).  Verified like every row
+    (:func:`spec_residual`, here on floats); None where the general path must decide
+    (other pairs, mixtures, inputs it rejects, a result that does not verify)."""
+    vals = {}
+    for k, value in given.items():
+        f = _scalar(value)
+        if f is None or not math.isfinite(f) or (k in ("T", "P", "v") and f <= 0.0):
+            return None
+        vals[k] = f
+    if not fluid.is_pure:
+        return None
+    keys = frozenset(vals)
+    if keys == {"T", "P"}:
+        st = fluid.single_phase(vals["T"], vals["P"])
+    elif "v" in keys and not keys & {"T", "P"}:
+        (key,) = keys - {"v"}
+        st = _pure_fixed_v_scalar(fluid, vals["v"], key, vals[key], flat=False)
+        if st is None:
+            return None
+    else:
+        return None
+    T = float(st._T)
+    res = 0.0
+    for k, target in vals.items():
+        scale = abs(target)
+        if k in _SPEC_FLOOR:
+            scale = max(scale, _SPEC_FLOOR[k](T))
+        r = abs(float(getattr(st, "_" + k)) - target) / scale
+        res = max(res, r if math.isfinite(r) else math.inf)
+    if not res <= SPEC_RTOL:
+        return None
+    st.status_array, st.residual_array, st.iterations_array = _ONE_CONVERGED, res, _ONE_NO_ITERATIONS
+    return st
 
 
 def spec_residual(st: State, spec: dict):
@@ -323,7 +367,10 @@ def _reshape(st: State, shape):
         if isinstance(obj._shift, np.ndarray) and obj._shift.ndim == 1:
             obj._shift = obj._shift.reshape(shape)
         obj._x = np.asarray(obj._x).reshape(shape + (obj.fluid.nc,))
-        if obj._sol is not None:
+        rows = getattr(obj._sol, "rows", None)
+        if rows is not None and rows.ndim == 2:   # entries read from kernel rows: reshape the rows
+            obj._sol = type(obj._sol)(rows.reshape(shape + rows.shape[1:]))
+        elif obj._sol is not None:
             new = {}
             for k, val in obj._sol.items():
                 val = np.asarray(val)

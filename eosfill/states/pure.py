@@ -14,8 +14,10 @@ from eosfill.equilibrium import solvers as equilibrium
 from eosfill.constants import R
 from eosfill.errors import CONVERGED, NOT_CONVERGED, ConvergenceError, InputError
 from eosfill.model.mixture import Mixture
-from eosfill.model.mixture import _out
-from eosfill.states.common import _T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP, props_Tv
+from eosfill.model.mixture import _one_state_data, _out
+from eosfill.model.state import _kernel_modules
+from eosfill.states.common import (_T_bounds, _compose, _negative_pressure, _raise_if, illinois, props_TP, props_Tv,
+                                   single_phase_T_at_P)
 
 def _pure_Tv(fluid: Mixture, T, v):
     """Pure-fluid state at (T, v): single phase or split on the saturation curve."""
@@ -81,24 +83,24 @@ def _solve_fixed_v(fluid: Mixture, v, key, target):
     return _assemble_pure(fluid, T, st)
 
 
-def _pure_fixed_v_scalar(fluid: Mixture, v, key, target):
+def _pure_fixed_v_scalar(fluid: Mixture, v, key, target, flat=True):
     """One pure-fluid state at fixed v by the compiled one-state solve
-    (:func:`eosfill.model.properties.T_at_v_one`).
+    (:func:`eosfill.model.properties.T_at_v_one`): a State of shape (1,)
+    (``flat``) or of shape () (a one-state State, floats).
 
     Valid when the single-phase solution lies clearly outside the
     saturation dome (then it is the stable state: for a pure fluid every
     (T, v) outside the dome is stable); otherwise returns None and the
     vectorised path decides."""
     from eosfill.equilibrium.saturation_curve import saturation_curve
-    from eosfill.model import properties as kp
 
-    b = float(fluid.params.b[0]) - fluid.volume_shift[0]
-    if not v > b:
+    d = _one_state_data(fluid)
+    kp = _kernel_modules()[1]
+    if not v > d.b - d.cbar:
         return None
     Tlo, Thi = _T_bounds(fluid)
-    T, _, status, row = kp.T_at_v_entry(kp.KEY_NAMES[key], float(target), v + float(fluid.volume_shift[0]),
-                                        max(float(fluid.Tc[0]), 300.0), Tlo, Thi, np.ones(1),
-                                        fluid.params.kernel_model, fluid.kernel_ideal_gas, 1e-12, 100)
+    T, _, status, row = kp.T_at_v_entry(kp.KEY_NAMES[key], float(target), v + d.cbar, max(d.Tc_min, 300.0),
+                                        Tlo, Thi, d.x, d.m, d.ig, 1e-12, 100)
     if status != CONVERGED:
         return None
     if T <= Tlo * (1 + 1e-9) or T >= Thi * (1 - 1e-9):
@@ -106,11 +108,11 @@ def _pure_fixed_v_scalar(fluid: Mixture, v, key, target):
     P = row[kp.TV_P]
     if not P > 0.0:
         return None
-    if T < float(fluid.Tc[0]) and saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):
+    if T < d.Tc_min and saturation_curve(fluid).classify(T, v) not in ("gas-side", "liquid-side"):
         return None
-    st = fluid.single_phase(np.array([T]), np.array([P]))
-    if abs(st._v[0] - v) > 1e-9 * v:  # lowest-Gibbs root is not this volume: let the general path decide
-        return None
+    st = fluid.single_phase(np.array([T]), np.array([P])) if flat else fluid.single_phase(float(T), float(P))
+    if abs(float(st._v if not flat else st._v[0]) - v) > 1e-9 * v:
+        return None   # the lowest-Gibbs root is not this volume: let the general path decide
     return st
 
 
@@ -172,22 +174,8 @@ def _pure_fixed_P(fluid: Mixture, P, key, target):
         side_lo[idx[~liquid_side & ~inside]] = Ts[~liquid_side & ~inside]
     rest = ~two
     if np.any(rest):
-        Pr, tr = P[rest], target[rest]
-        scale = {"h": R * 300.0, "u": R * 300.0, "s": R, "v": 1.0}[key]
-
-        def f(Tt):
-            val = props_TP(fluid, Tt, Pr)[key]
-            return (np.log(val / tr) if key == "v" else (val - tr) / scale)
-
-        lo, hi = side_lo[rest], side_hi[rest]
-        flo, fhi = f(lo), f(hi)
-        bad = (flo > 0) | (fhi < 0)
-        if np.any(bad):
-            i = np.flatnonzero(bad)[0]
-            raise InputError(key, float(tr[i]),
-                             f"a value the model reaches at P = {Pr[i]:.6g} Pa between "
-                             f"T = {lo[i]:.4g} and {hi[i]:.4g} K")
-        Tr, fx, ok = illinois(f, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
+        Pr = P[rest]
+        Tr, fx, ok = single_phase_T_at_P(fluid, Pr, key, target[rest], side_lo[rest], side_hi[rest])
         _raise_if(ok, f"P-{key} solve", dict(P=Pr, T=Tr), fx)
         T[rest] = Tr
     out = _pure_split_state(fluid, T, P, two, beta)
