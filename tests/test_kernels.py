@@ -148,7 +148,9 @@ def test_batches_run_the_one_state_code():
     np.testing.assert_allclose(tv[:, kp.TV_P], P, rtol=1e-9)
     np.testing.assert_array_equal(tv[5], kp.props_Tv_entry(T[5], rows[5, kp.TP_V_EOS], np.array(g.mole_fractions), m, ig))
     lp, Z = kp.ln_phi_TP(m, T, P, g.mole_fractions)
-    np.testing.assert_array_equal(Z, rows[:, kp.TP_Z])
+    # Z of the ln φ kernel and of the property row come from two compiled functions whose
+    # inlining (and fused multiply-adds) may differ: equal to the last unit or two
+    np.testing.assert_allclose(Z, rows[:, kp.TP_Z], rtol=4e-15, atol=0.0)
     np.testing.assert_array_equal(lp[3], kp.ln_phi_TP(m, T[3:4], P[3:4], g.mole_fractions)[0][0])
     lz = kp.ln_phi_at_Z(m, T, P, Z, g.mole_fractions)              # parallel
     np.testing.assert_array_equal(lz[7], kp.ln_phi_at_Z(m, T[7:8], P[7:8], Z[7:8], g.mole_fractions)[0])
