@@ -301,28 +301,9 @@ def _flash_newton_oracle(T, P, z, lnK, p, tol, maxiter=30):
 
 def flash_TP_oracle(T, P, z, p, tol=1e-11, maxiter=400, raise_on_fail=True, lnK_start=None,
              second_order=True):
-    """Isothermal two-phase flash of mixtures at (T, P), vectorised over states.
-
-    Stability test first (Michelsen 1982); unstable feeds are flashed by
-    accelerated successive substitution with a Gibbs-minimisation fallback.
-
-    Parameters
-    ----------
-    T, P : ndarray, shape (n,)
-    z : ndarray, shape (n, nc) or (nc,)
-
-    Returns
-    -------
-    dict: beta (n,) vapour fraction (1 or 0 single phase), x, y (n, nc)
-    liquid and vapour compositions (both = z when single phase),
-    two_phase (n,) bool, status (n,), residual (n,) max |ln f^V - ln f^L|,
-    lnK (n, nc) the converged ln K (for warm starts), iterations (n,) the
-    successive-substitution steps taken (0 for stable feeds).
-
-    ``lnK_start`` (n, nc): K-values of a nearby two-phase solution; the
-    stability test is then skipped for a first try and run only where the
-    warm-started flash does not end with two phases.
-    """
+    """The numpy form of :func:`eosfill.equilibrium.flash.flash_TP` (same arguments and
+    returned dict), kept as the oracle of the compiled flash: stability test (Michelsen
+    1982), accelerated successive substitution, Gibbs-minimisation fallback."""
     if lnK_start is not None:
         res = _flash_warm_oracle(T, P, z, p, lnK_start, tol, maxiter)
         if res is not None:

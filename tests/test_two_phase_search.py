@@ -31,7 +31,7 @@ def test_fixed_P_round_trip(rich, key):
     T = np.empty(3)
     status = np.empty(3, dtype=np.int64)
     ts.fixed_P_batch(np.full(3, 4e6), kc, target, scale, np.full(3, 180.0), 50.0, 1000.0, z, m, ig, Pc, omega,
-                     1e-12, 1e-12, 200, False, T, status)
+                     1e-12, 1e-12, 200, T, status)
     assert list(status) == [0, 0, 0]
     np.testing.assert_allclose(T, [200.0, 220.0, 240.0], rtol=1e-9)
     for k in range(3):   # the batch runs the one-state function

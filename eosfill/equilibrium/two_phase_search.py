@@ -49,19 +49,13 @@ def _scratch(nc):
 
 
 @njit(**KERNEL)
-def overall_one(T, P, z, m, ig, Pc, omega, sc, out, single=False):
+def overall_one(T, P, z, m, ig, Pc, omega, sc, out):
     """Overall u, h, s, v at (T, P) into out[0:4] (module docstring), β into
     out[4]; the scratch ``sc`` carries the K-values from call to call.
-    ``single``: the feed as one phase (no flash).  Returns False where the
-    flash did not converge."""
+    Returns False where the flash did not converge."""
     work, hist, lnW, x, y, lnK, row, warm = sc
     ok = False
     beta = 1.0
-    if single:
-        props_TP_one(T, P, z, m, ig, STABLE, work[0], work[1], work[2], row)
-        for j in range(4):
-            out[j] = row[_COLS[j]]
-        return np.isfinite(out[0] + out[1] + out[2] + out[3])
     if warm[0]:
         ok, beta, _, _ = flash_warm_one(T, P, z, m, lnK, 1e-11, 400, x, y, work, hist)
     two = ok
@@ -97,15 +91,15 @@ def _g(key, target, scale, vals):
 
 
 @njit(**KERNEL)
-def fixed_P_one(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol, ftol, maxiter, single=False):
-    """T with ψ(T, P) = target (module docstring).  ``single``: the feed as
-    one phase, bracket [Tmin, Tmax] (its ends must bracket the root; T0
-    unused).  Returns (T, status, evaluations)."""
+def fixed_P_one(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol, ftol, maxiter):
+    """T with ψ(T, P) = target (module docstring), bracketed by steps out from
+    T0 inside [Tmin, Tmax].  Returns (T, status, evaluations).  (The single-phase
+    search is :func:`eosfill.model.one_state.T_at_P_one`.)"""
     sc = _scratch(z.shape[0])
     vals = np.empty(5)
     nev = 1
-    a = min(max(T0, Tmin), Tmax) if not single else Tmin
-    if not overall_one(a, P, z, m, ig, Pc, omega, sc, vals, single):
+    a = min(max(T0, Tmin), Tmax)
+    if not overall_one(a, P, z, m, ig, Pc, omega, sc, vals):
         return a, NOT_CONVERGED, nev
     fa = _g(key, target, scale, vals)
     if fa == 0.0:
@@ -113,14 +107,7 @@ def fixed_P_one(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol
     step = 0.02 * a
     b, fb = a, fa
     found = False
-    if single:
-        b = Tmax
-        nev += 1
-        if not overall_one(b, P, z, m, ig, Pc, omega, sc, vals, single):
-            return b, NOT_CONVERGED, nev
-        fb = _g(key, target, scale, vals)
-        found = (fb > 0.0) != (fa > 0.0) or fb == 0.0
-    for _ in range(0 if single else 60):
+    for _ in range(60):
         b = max(min(a - step if fa > 0.0 else a + step, Tmax), Tmin)
         nev += 1
         if not overall_one(b, P, z, m, ig, Pc, omega, sc, vals):
@@ -140,7 +127,7 @@ def fixed_P_one(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol
     for _ in range(maxiter):
         c = b - fb * (b - a) / (fb - fa)
         nev += 1
-        if not overall_one(c, P, z, m, ig, Pc, omega, sc, vals, single):
+        if not overall_one(c, P, z, m, ig, Pc, omega, sc, vals):
             return c, NOT_CONVERGED, nev
         fc = _g(key, target, scale, vals)
         if abs(fc) <= ftol:
@@ -258,12 +245,11 @@ def fixed_v_one(v, key, target, scale, T0, P0, z, m, ig, Pc, omega, tol, maxiter
 
 
 @njit(parallel=True, nogil=True, **KERNEL)
-def fixed_P_batch(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol, ftol, maxiter, single, T,
-                  status):
+def fixed_P_batch(P, key, target, scale, T0, Tmin, Tmax, z, m, ig, Pc, omega, xtol, ftol, maxiter, T, status):
     """:func:`fixed_P_one` for states k in parallel."""
     for k in prange(P.shape[0]):
         T[k], status[k], _ = fixed_P_one(P[k], key, target[k], scale, T0[k], Tmin, Tmax, z, m, ig, Pc, omega,
-                                         xtol, ftol, maxiter, single)
+                                         xtol, ftol, maxiter)
 
 
 @njit(parallel=True, nogil=True, **KERNEL)

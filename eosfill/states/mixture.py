@@ -15,7 +15,8 @@ from eosfill.model.mixture import Mixture
 from eosfill.model.mixture import _out
 from eosfill.equilibrium import multiphase
 from eosfill.model.mixture import GAS, SUPERCRITICAL, THREE_PHASE, TWO_PHASE, State
-from eosfill.states.common import _T_bounds, _compose, _merge, _raise_if, illinois, props_TP, props_Tv
+from eosfill.states.common import (_T_bounds, _compose, _merge, _raise_if, illinois, props_TP, props_Tv,
+                                   single_phase_T_at_P, single_phase_T_at_v)
 
 def _mixture_from_flash(fluid: Mixture, T, P, fl=None):
     """State of a mixture at (T, P) (arrays of shape (n,)) from the multiphase
@@ -81,24 +82,10 @@ class _MixtureEvaluator:
 def _mixture_fixed_P(fluid, P, key, target):
     """Mixture: T at fixed P with prop = target; single phase first, then flash."""
     Tlo, Thi = _T_bounds(fluid)
-    n = P.shape[0]
     scale = {"h": R * 300.0, "u": R * 300.0, "s": R, "v": 1.0}[key]
-
-    def f1(Tt):
-        val = props_TP(fluid, Tt, P)[key]
-        return np.log(val / target) if key == "v" else (val - target) / scale
-
-    lo = np.full(n, Tlo)
-    hi = np.full(n, Thi)
-    flo, fhi = f1(lo), f1(hi)
-    bad = (flo > 0) | (fhi < 0)
-    if np.any(bad):
-        i = np.flatnonzero(bad)[0]
-        raise InputError(key, float(target[i]), f"a value the model reaches at P = {P[i]:.6g} Pa "
-                         f"between T = {Tlo:.4g} and {Thi:.4g} K")
-    # single phase first (compiled Illinois in [Tlo, Thi])
-    T, ok = _compiled_fixed_P(fluid, P, key, target, scale, lo, Tlo, Thi, single=True, tol=(1e-13, 1e-13))
-    _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), f1(T))
+    # single phase first (the compiled search on the lowest-Gibbs root in [Tlo, Thi])
+    T, fx, ok = single_phase_T_at_P(fluid, P, key, target, Tlo, Thi)
+    _raise_if(ok, f"P-{key} single-phase solve", dict(P=P, T=T), fx)
     unstable = multiphase.unstable(T, P, fluid.mole_fractions, fluid.params)
     idx = np.flatnonzero(unstable)
     if idx.size == 0:
@@ -126,8 +113,8 @@ def _kernel_args(fluid):
             np.array(p.Pc, dtype=np.float64), np.array(p.omega, dtype=np.float64))
 
 
-def _compiled_fixed_P(fluid, P, key, target, scale, T0, Tlo, Thi, single=False, tol=(1e-12, 1e-12)):
-    """T at fixed P, two phases (``single``: the feed as one phase), by
+def _compiled_fixed_P(fluid, P, key, target, scale, T0, Tlo, Thi, tol=(1e-12, 1e-12)):
+    """T at fixed P, two phases, by
     :func:`eosfill.equilibrium.two_phase_search.fixed_P_one` (one state) or
     its parallel batch.  Returns T and a converged flag per row."""
     from eosfill.equilibrium import two_phase_search as ts
@@ -137,13 +124,13 @@ def _compiled_fixed_P(fluid, P, key, target, scale, T0, Tlo, Thi, single=False, 
     n = P.size
     if n == 1:
         T, status, _ = ts.fixed_P_one(float(P[0]), kc, float(target[0]), float(scale), float(T0[0]), float(Tlo),
-                                      float(Thi), z, m, ig, Pc, omega, tol[0], tol[1], 200, single)
+                                      float(Thi), z, m, ig, Pc, omega, tol[0], tol[1], 200)
         return np.array([T]), np.array([status == 0])
     T = np.empty(n)
     status = np.empty(n, dtype=np.int64)
     ts.fixed_P_batch(np.array(P, dtype=np.float64), kc, np.array(target, dtype=np.float64), float(scale),
                      np.array(T0, dtype=np.float64), float(Tlo), float(Thi), z, m, ig, Pc, omega, tol[0], tol[1], 200,
-                     single, T, status)
+                     T, status)
     return T, status == 0
 
 
@@ -277,23 +264,10 @@ def _mixture_fixed_v(fluid, v, key, target):
         raise InputError("v", _out(v), f"v > b = {b:.6g} m3/mol (the model's co-volume)")
     v_eos = v + float(x @ fluid.volume_shift)
     scale = R * 300.0 if key != "s" else R
-
-    def f1(Tt):
-        return (props_Tv(fluid, Tt, v_eos)[key] - target) / scale
-
-    lo = np.full(n, Tlo)
-    hi = np.full(n, Thi)
-    flo, fhi = f1(lo), f1(hi)
-    bad = (flo > 0) | (fhi < 0) | ~np.isfinite(flo) | ~np.isfinite(fhi)
-    if np.any(fhi < 0):
-        i = np.flatnonzero(fhi < 0)[0]
-        raise InputError(key, float(target[i]), f"a value below the model's value at T = {Thi:.4g} K "
-                         f"and v = {v[i]:.6g} m3/mol")
-    # below the single-phase T range the content may be two-phase: start
-    # from the lowest T and let the two-phase search below handle it
-    flo = np.where(bad, -1.0, flo)
-    T, fx, ok = illinois(f1, lo, hi, flo, fhi, xtol=1e-14 * Thi, ftol=1e-13)
-    P = props_Tv(fluid, T, v_eos)["P"]
+    # single phase first (the compiled search at fixed v); below the single-phase T range
+    # the content may be two-phase: such rows end unconverged and the two-phase search
+    # below takes them
+    T, P, ok = single_phase_T_at_v(fluid, v_eos, key, target)
     check = ok & (P > 0)
     z = np.broadcast_to(x, (n, fluid.nc))
     unstable = ~check

@@ -1,19 +1,8 @@
 """Flow through a restriction: orifice or nozzle, control valve, prescribed flow.
 
 What limits the flow into or out of a vessel, as a mass flow [kg/s] from the
-upstream state and the downstream pressure.
-
-========================  ====================================================
-restriction               model
-========================  ====================================================
-:class:`Orifice`          real-gas isentropic nozzle times a discharge
-                          coefficient, ṁ = C_d A G (F1-F4)
-:class:`Valve`            IEC 60534-2-1 gas sizing equation solved for the
-                          flow, with expansion factor and choked limit (F5-F9)
-:class:`MassFlow`         a prescribed mass flow
-:class:`PressureRamp`     the flow that makes the vessel pressure change at
-                          a prescribed rate (solved in :mod:`eosfill.transient`)
-========================  ====================================================
+upstream state and the downstream pressure: the table of restrictions and their
+models is in :mod:`eosfill.transient.restrictions`.
 
 The pieces (this module is their map and re-exports their names):
 
